@@ -1,0 +1,708 @@
+//! The YAML project config: [`RawConfig`] mirrors the file, [`Config`] is the checked form.
+//!
+//! Every key is documented in `docs/config.md`. Unknown keys are errors that name the key, where
+//! it is, and the nearest valid keys. Checks that need the data (do the named columns exist?)
+//! happen when the files are read, in [`crate::prepare`].
+
+use std::path::{Path, PathBuf};
+
+use serde::Deserialize;
+
+use crate::duration::Span;
+use crate::suggest::nearest;
+use crate::timestamp::parse_offset;
+
+/// Why a config file was rejected.
+#[derive(Debug, thiserror::Error)]
+pub enum ConfigError {
+    /// The file could not be read.
+    #[error("cannot read config {path}: {source}")]
+    Read {
+        /// The config path.
+        path: PathBuf,
+        /// The OS error.
+        source: std::io::Error,
+    },
+    /// An unknown key, with the nearest valid ones.
+    #[error("{path}: unknown key `{key}`{location}{hint}")]
+    UnknownKey {
+        /// The config path.
+        path: PathBuf,
+        /// The key as written.
+        key: String,
+        /// ` in data (line 3, column 3)` or empty.
+        location: String,
+        /// `; did you mean `timestamp`?` or the list of valid keys.
+        hint: String,
+    },
+    /// The YAML did not parse or a value has the wrong type.
+    #[error("{path}: {message}")]
+    Syntax {
+        /// The config path.
+        path: PathBuf,
+        /// The parser's message, with line and column.
+        message: String,
+    },
+    /// A value breaks one of the rules in `docs/config.md`.
+    #[error("{path}: `{key}` {problem}")]
+    Invalid {
+        /// The config path.
+        path: PathBuf,
+        /// Dotted key, e.g. `inputs[2].range`.
+        key: String,
+        /// What is wrong, in plain words.
+        problem: String,
+    },
+}
+
+/// Where the target values come from.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Deserialize, serde::Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum TargetSource {
+    /// An online analyzer: a frequent series that lags the process by a dead time.
+    Analyzer,
+    /// Laboratory results: sparse samples.
+    Lab,
+}
+
+/// Which time a lab file stamps on each result.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Deserialize, serde::Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum LabStamp {
+    /// When the material was drawn.
+    #[default]
+    Sample,
+    /// When the result became available; the lab delay is subtracted.
+    Result,
+}
+
+/// Optional transform of the target before modelling.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Deserialize, serde::Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum TransformKind {
+    /// Model the value as it is.
+    #[default]
+    None,
+    /// Natural logarithm of the value (impurities spanning decades).
+    Log,
+    /// `ln(p / (1 - p))` with `p = value / full-scale` (fractions near 0 or 1).
+    Logit,
+}
+
+/// The config file as written.
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields, rename_all = "kebab-case")]
+pub struct RawConfig {
+    /// The historian export files.
+    pub data: RawData,
+    /// The grid every tag is resampled onto.
+    pub sample_time: Span,
+    /// A grid point takes the last observation no older than this (default 3 × sample-time).
+    #[serde(default)]
+    pub hold_limit: Option<Span>,
+    /// Frozen-sensor and spike screening.
+    #[serde(default)]
+    pub screening: RawScreening,
+    /// The quality variable to estimate.
+    pub target: RawTarget,
+    /// The cheap, frequent measurements the estimate is computed from.
+    pub inputs: Vec<RawInput>,
+}
+
+/// The `data` section.
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields, rename_all = "kebab-case")]
+pub struct RawData {
+    /// CSV files, relative to the config file; read in order, then merged by time.
+    pub files: Vec<PathBuf>,
+    /// Name of the timestamp column.
+    #[serde(default = "default_timestamp")]
+    pub timestamp: String,
+    /// Field delimiter, one ASCII character.
+    #[serde(default = "default_delimiter")]
+    pub delimiter: char,
+    /// UTC offset of timestamps written without one, e.g. `+01:00`.
+    #[serde(default = "default_offset")]
+    pub naive_offset: String,
+}
+
+/// The `screening` section.
+#[derive(Debug, Clone, Default, Deserialize)]
+#[serde(deny_unknown_fields, rename_all = "kebab-case")]
+pub struct RawScreening {
+    /// A value unchanged (within the tag's resolution) for longer than this is frozen (default 2h).
+    pub frozen_after: Option<Span>,
+    /// Half-width of the Hampel window (default 15 × sample-time).
+    pub spike_half_window: Option<Span>,
+    /// Hampel threshold in robust standard deviations (default 5).
+    pub spike_threshold: Option<f64>,
+}
+
+/// One entry of `inputs`.
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields, rename_all = "kebab-case")]
+pub struct RawInput {
+    /// Column name in the data files.
+    pub tag: String,
+    /// Engineering unit, for reports.
+    #[serde(default)]
+    pub unit: String,
+    /// Valid range `[low, high]`; values outside are invalid.
+    #[serde(default)]
+    pub range: Option<[f64; 2]>,
+    /// Smallest meaningful change (instrument resolution or noise floor); default 0.
+    #[serde(default)]
+    pub resolution: f64,
+    /// Per-tag override of `screening.frozen-after`.
+    #[serde(default)]
+    pub frozen_after: Option<Span>,
+}
+
+/// The `target` section.
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields, rename_all = "kebab-case")]
+pub struct RawTarget {
+    /// Column name (in the data files, or in the lab files for a lab target).
+    pub tag: String,
+    /// Engineering unit.
+    #[serde(default)]
+    pub unit: String,
+    /// `analyzer` or `lab`.
+    pub source: TargetSource,
+    /// Analyzer only: how long the analyzer reading lags the process.
+    #[serde(default)]
+    pub dead_time: Option<Span>,
+    /// Lab only: where lab results live and how they are stamped.
+    #[serde(default)]
+    pub lab: Option<RawLab>,
+    /// Valid range `[low, high]`.
+    #[serde(default)]
+    pub range: Option<[f64; 2]>,
+    /// Smallest meaningful change; default 0.
+    #[serde(default)]
+    pub resolution: f64,
+    /// Override of `screening.frozen-after` for the target.
+    #[serde(default)]
+    pub frozen_after: Option<Span>,
+    /// `none`, `log` or `logit`.
+    #[serde(default)]
+    pub transform: TransformKind,
+    /// For `logit`: the value that means fraction 1 (100 for %, 1e6 for ppm). Default 1.
+    #[serde(default)]
+    pub full_scale: Option<f64>,
+}
+
+/// The `target.lab` section.
+#[derive(Debug, Clone, Default, Deserialize)]
+#[serde(deny_unknown_fields, rename_all = "kebab-case")]
+pub struct RawLab {
+    /// Lab CSV files relative to the config; empty means the target column of the data files.
+    #[serde(default)]
+    pub files: Vec<PathBuf>,
+    /// Timestamp column of the lab files (default: the data files' timestamp name).
+    #[serde(default)]
+    pub timestamp: Option<String>,
+    /// `sample` or `result`.
+    #[serde(default)]
+    pub stamped_at: LabStamp,
+    /// Result time minus sample time; required when `stamped-at: result`.
+    #[serde(default)]
+    pub delay: Option<Span>,
+}
+
+fn default_timestamp() -> String {
+    "timestamp".to_string()
+}
+fn default_delimiter() -> char {
+    ','
+}
+fn default_offset() -> String {
+    "+00:00".to_string()
+}
+
+/// A checked tag: name, unit and screening limits.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct TagSpec {
+    /// Column name.
+    pub tag: String,
+    /// Engineering unit.
+    pub unit: String,
+    /// Valid range, if any.
+    pub range: Option<(f64, f64)>,
+    /// Smallest meaningful change.
+    pub resolution: f64,
+    /// Frozen after this long without change.
+    pub frozen_after: Span,
+}
+
+/// Checked lab settings.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct LabSpec {
+    /// Lab files (absolute or relative to the working directory); empty: the data files.
+    pub files: Vec<PathBuf>,
+    /// Timestamp column of the lab files.
+    pub timestamp: String,
+    /// Subtracted from each stamp to get the sample time (zero when stamped at sample time).
+    pub delay: Span,
+    /// How the files stamp results.
+    pub stamped_at: LabStamp,
+}
+
+/// Checked target settings.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct TargetSpec {
+    /// Tag, unit, range, screening.
+    pub spec: TagSpec,
+    /// Analyzer or lab.
+    pub source: TargetSource,
+    /// Analyzer dead time (zero for lab).
+    pub dead_time: Span,
+    /// Lab settings (for `source: lab`).
+    pub lab: Option<LabSpec>,
+    /// Target transform.
+    pub transform: TransformKind,
+    /// Full scale for `logit`.
+    pub full_scale: f64,
+}
+
+/// Checked screening settings.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct Screening {
+    /// Hampel half-window in grid samples.
+    pub spike_half_window: usize,
+    /// Hampel threshold in robust standard deviations.
+    pub spike_threshold: f64,
+}
+
+/// The checked config, with paths resolved against the config's folder.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct Config {
+    /// Data files.
+    pub files: Vec<PathBuf>,
+    /// Timestamp column.
+    pub timestamp: String,
+    /// Field delimiter byte.
+    pub delimiter: u8,
+    /// Offset applied to naive timestamps, minutes east of UTC.
+    pub naive_offset_minutes: i32,
+    /// Grid spacing.
+    pub sample_time: Span,
+    /// Maximum age of a held value.
+    pub hold_limit: Span,
+    /// Spike screening.
+    pub screening: Screening,
+    /// The target.
+    pub target: TargetSpec,
+    /// The inputs.
+    pub inputs: Vec<TagSpec>,
+}
+
+impl Config {
+    /// Reads, parses and checks a config file.
+    pub fn load(path: &Path) -> Result<Config, ConfigError> {
+        let text = std::fs::read_to_string(path).map_err(|source| ConfigError::Read {
+            path: path.to_path_buf(),
+            source,
+        })?;
+        let raw = RawConfig::parse(&text, path)?;
+        let base = path.parent().unwrap_or_else(|| Path::new(""));
+        raw.check(base, path)
+    }
+}
+
+impl RawConfig {
+    /// Parses YAML text; `path` is only used in messages.
+    pub fn parse(text: &str, path: &Path) -> Result<RawConfig, ConfigError> {
+        serde_norway::from_str(text).map_err(|err| explain_yaml_error(&err, path))
+    }
+
+    /// Applies the rules of `docs/config.md`; relative paths are resolved against `base`.
+    pub fn check(self, base: &Path, path: &Path) -> Result<Config, ConfigError> {
+        let invalid = |key: &str, problem: String| ConfigError::Invalid {
+            path: path.to_path_buf(),
+            key: key.to_string(),
+            problem,
+        };
+        if self.data.files.is_empty() {
+            return Err(invalid("data.files", "lists no files".into()));
+        }
+        if !self.data.delimiter.is_ascii() || self.data.delimiter == '"' {
+            return Err(invalid(
+                "data.delimiter",
+                format!(
+                    "`{}` must be one ASCII character other than `\"`",
+                    self.data.delimiter
+                ),
+            ));
+        }
+        let naive_offset_minutes = parse_offset(&self.data.naive_offset).ok_or_else(|| {
+            invalid(
+                "data.naive-offset",
+                format!(
+                    "`{}` is not an offset like `+01:00`, `-05:30` or `UTC`",
+                    self.data.naive_offset
+                ),
+            )
+        })?;
+        if self.sample_time.micros() <= 0 {
+            return Err(invalid("sample-time", "must be more than zero".into()));
+        }
+        let ts = self.sample_time;
+        let hold_limit = self
+            .hold_limit
+            .unwrap_or(Span::from_micros(3 * ts.micros()));
+        let frozen_default = self
+            .screening
+            .frozen_after
+            .unwrap_or(Span::from_secs(2 * 3600));
+        let half = self
+            .screening
+            .spike_half_window
+            .unwrap_or(Span::from_micros(15 * ts.micros()));
+        let spike_half_window = half.whole_steps(ts) as usize;
+        if spike_half_window < 1 {
+            return Err(invalid(
+                "screening.spike-half-window",
+                format!("{half} is shorter than one sample-time ({ts})"),
+            ));
+        }
+        let spike_threshold = self.screening.spike_threshold.unwrap_or(5.0);
+        if !(spike_threshold.is_finite() && spike_threshold > 0.0) {
+            return Err(invalid(
+                "screening.spike-threshold",
+                format!("{spike_threshold} must be a positive number"),
+            ));
+        }
+        if self.inputs.is_empty() {
+            return Err(invalid("inputs", "lists no input tags".into()));
+        }
+        let tag_spec = |key: &str,
+                        tag: &str,
+                        unit: &str,
+                        range: Option<[f64; 2]>,
+                        resolution: f64,
+                        frozen: Option<Span>|
+         -> Result<TagSpec, ConfigError> {
+            if tag.trim().is_empty() {
+                return Err(invalid(&format!("{key}.tag"), "is empty".into()));
+            }
+            let range = match range {
+                Some([lo, hi]) if lo.is_finite() && hi.is_finite() && lo < hi => Some((lo, hi)),
+                Some([lo, hi]) => {
+                    return Err(invalid(
+                        &format!("{key}.range"),
+                        format!("[{lo}, {hi}] must be two finite numbers, low < high"),
+                    ))
+                }
+                None => None,
+            };
+            if !(resolution.is_finite() && resolution >= 0.0) {
+                return Err(invalid(
+                    &format!("{key}.resolution"),
+                    format!("{resolution} must be zero or more"),
+                ));
+            }
+            Ok(TagSpec {
+                tag: tag.to_string(),
+                unit: unit.to_string(),
+                range,
+                resolution,
+                frozen_after: frozen.unwrap_or(frozen_default),
+            })
+        };
+        let mut inputs = Vec::with_capacity(self.inputs.len());
+        for (i, input) in self.inputs.iter().enumerate() {
+            let key = format!("inputs[{i}]");
+            inputs.push(tag_spec(
+                &key,
+                &input.tag,
+                &input.unit,
+                input.range,
+                input.resolution,
+                input.frozen_after,
+            )?);
+        }
+        for (i, a) in inputs.iter().enumerate() {
+            if inputs[..i].iter().any(|b| b.tag == a.tag) {
+                return Err(invalid(
+                    &format!("inputs[{i}].tag"),
+                    format!("`{}` is listed twice", a.tag),
+                ));
+            }
+            if a.tag == self.data.timestamp {
+                return Err(invalid(
+                    &format!("inputs[{i}].tag"),
+                    format!("`{}` is the timestamp column", a.tag),
+                ));
+            }
+            if a.tag == self.target.tag {
+                return Err(invalid(
+                    &format!("inputs[{i}].tag"),
+                    format!(
+                        "`{}` is the target: an estimator cannot use its own target as input",
+                        a.tag
+                    ),
+                ));
+            }
+        }
+        let t = &self.target;
+        let spec = tag_spec(
+            "target",
+            &t.tag,
+            &t.unit,
+            t.range,
+            t.resolution,
+            t.frozen_after,
+        )?;
+        let (dead_time, lab) = match t.source {
+            TargetSource::Analyzer => {
+                if t.lab.is_some() {
+                    return Err(invalid("target.lab", "is only for `source: lab`".into()));
+                }
+                (t.dead_time.unwrap_or(Span::from_secs(0)), None)
+            }
+            TargetSource::Lab => {
+                if t.dead_time.is_some() {
+                    return Err(invalid(
+                        "target.dead-time",
+                        "is only for `source: analyzer`; a lab target uses `lab.delay`".into(),
+                    ));
+                }
+                let lab = t.lab.clone().unwrap_or_default();
+                let delay =
+                    match (lab.stamped_at, lab.delay) {
+                        (LabStamp::Result, Some(d)) => d,
+                        (LabStamp::Result, None) => return Err(invalid(
+                            "target.lab.delay",
+                            "is required when `stamped-at: result` (time from sampling to result)"
+                                .into(),
+                        )),
+                        (LabStamp::Sample, Some(_)) => {
+                            return Err(invalid(
+                                "target.lab.delay",
+                                "applies only with `stamped-at: result`".into(),
+                            ))
+                        }
+                        (LabStamp::Sample, None) => Span::from_secs(0),
+                    };
+                let files = lab.files.iter().map(|f| base.join(f)).collect();
+                let timestamp = lab.timestamp.unwrap_or_else(|| self.data.timestamp.clone());
+                (
+                    Span::from_secs(0),
+                    Some(LabSpec {
+                        files,
+                        timestamp,
+                        delay,
+                        stamped_at: lab.stamped_at,
+                    }),
+                )
+            }
+        };
+        let full_scale = t.full_scale.unwrap_or(1.0);
+        if !(full_scale.is_finite() && full_scale > 0.0) {
+            return Err(invalid(
+                "target.full-scale",
+                format!("{full_scale} must be positive"),
+            ));
+        }
+        if t.full_scale.is_some() && t.transform != TransformKind::Logit {
+            return Err(invalid(
+                "target.full-scale",
+                "applies only with `transform: logit`".into(),
+            ));
+        }
+        Ok(Config {
+            files: self.data.files.iter().map(|f| base.join(f)).collect(),
+            timestamp: self.data.timestamp,
+            delimiter: self.data.delimiter as u8,
+            naive_offset_minutes,
+            sample_time: ts,
+            hold_limit,
+            screening: Screening {
+                spike_half_window,
+                spike_threshold,
+            },
+            target: TargetSpec {
+                spec,
+                source: t.source,
+                dead_time,
+                lab,
+                transform: t.transform,
+                full_scale,
+            },
+            inputs,
+        })
+    }
+}
+
+/// Turns the YAML parser's message into ours; unknown keys get the nearest valid names.
+fn explain_yaml_error(err: &serde_norway::Error, path: &Path) -> ConfigError {
+    let message = err.to_string();
+    if let Some((section, key, expected)) = parse_unknown_field(&message) {
+        let location = match (section.is_empty(), err.location()) {
+            (false, Some(loc)) => format!(
+                " in `{section}` (line {}, column {})",
+                loc.line(),
+                loc.column()
+            ),
+            (true, Some(loc)) => format!(" (line {}, column {})", loc.line(), loc.column()),
+            (false, None) => format!(" in `{section}`"),
+            (true, None) => String::new(),
+        };
+        let close = nearest(&key, expected.iter().map(String::as_str), 3);
+        let hint = if close.is_empty() {
+            format!("; valid keys here: {}", quote_list(&expected))
+        } else {
+            format!("; did you mean {}?", quote_list(&close))
+        };
+        return ConfigError::UnknownKey {
+            path: path.to_path_buf(),
+            key,
+            location,
+            hint,
+        };
+    }
+    ConfigError::Syntax {
+        path: path.to_path_buf(),
+        message,
+    }
+}
+
+fn quote_list(names: &[String]) -> String {
+    names
+        .iter()
+        .map(|n| format!("`{n}`"))
+        .collect::<Vec<_>>()
+        .join(", ")
+}
+
+/// Picks apart serde's "unknown field `x`, expected one of `a`, `b`" (with an optional
+/// `section: ` prefix) into (section, key, expected keys).
+fn parse_unknown_field(message: &str) -> Option<(String, String, Vec<String>)> {
+    let at = message.find("unknown field `")?;
+    let section = message[..at]
+        .trim_end()
+        .trim_end_matches(':')
+        .trim()
+        .to_string();
+    let rest = &message[at + "unknown field `".len()..];
+    let end = rest.find('`')?;
+    let key = rest[..end].to_string();
+    let tail = &rest[end + 1..];
+    let expected = tail
+        .split('`')
+        .skip(1)
+        .step_by(2)
+        .map(str::to_string)
+        .collect();
+    Some((section, key, expected))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    const MINIMAL: &str = "
+data:
+  files: [plant.csv]
+  timestamp: time
+sample-time: 1min
+target:
+  tag: XA-1
+  source: analyzer
+  dead-time: 10min
+inputs:
+  - tag: TI-1
+    unit: degC
+    range: [0, 200]
+";
+
+    fn load(text: &str) -> Result<Config, ConfigError> {
+        let path = Path::new("cfg.yaml");
+        RawConfig::parse(text, path)?.check(Path::new("/plant"), path)
+    }
+
+    #[test]
+    fn minimal_config_gets_documented_defaults() {
+        let c = load(MINIMAL).expect("valid");
+        assert_eq!(c.files, vec![PathBuf::from("/plant/plant.csv")]);
+        assert_eq!(c.delimiter, b',');
+        assert_eq!(c.sample_time, Span::from_secs(60));
+        assert_eq!(c.hold_limit, Span::from_secs(180));
+        assert_eq!(c.screening.spike_half_window, 15);
+        assert_eq!(c.screening.spike_threshold, 5.0);
+        assert_eq!(c.inputs[0].frozen_after, Span::from_secs(7200));
+        assert_eq!(c.inputs[0].range, Some((0.0, 200.0)));
+        assert_eq!(c.target.dead_time, Span::from_secs(600));
+        assert_eq!(c.target.transform, TransformKind::None);
+    }
+
+    #[test]
+    fn unknown_key_names_key_place_and_nearest() {
+        let text = MINIMAL.replace("  timestamp: time", "  timestmp: time");
+        let err = load(&text).expect_err("typo must fail").to_string();
+        assert!(err.contains("unknown key `timestmp`"), "{err}");
+        assert!(err.contains("did you mean `timestamp`"), "{err}");
+        assert!(err.contains("line 4"), "{err}");
+    }
+
+    #[test]
+    fn unknown_key_far_from_everything_lists_valid_keys() {
+        let text = format!("{MINIMAL}zzzzzzzz: 1\n");
+        let err = load(&text).expect_err("must fail").to_string();
+        assert!(err.contains("unknown key `zzzzzzzz`"), "{err}");
+        assert!(err.contains("valid keys here"), "{err}");
+    }
+
+    #[test]
+    fn durations_need_units() {
+        let err = load(&MINIMAL.replace("sample-time: 1min", "sample-time: 60"))
+            .expect_err("unitless")
+            .to_string();
+        assert!(err.contains("write a number and a unit"), "{err}");
+    }
+
+    #[test]
+    fn rule_violations_name_the_key() {
+        let cases = [
+            (MINIMAL.replace("[0, 200]", "[200, 0]"), "inputs[0].range"),
+            (
+                MINIMAL.replace("sample-time: 1min", "sample-time: 0s"),
+                "sample-time",
+            ),
+            (MINIMAL.replace("tag: TI-1", "tag: XA-1"), "inputs[0].tag"),
+            (
+                MINIMAL.replace("source: analyzer", "source: lab"),
+                "target.dead-time",
+            ),
+            (
+                MINIMAL.replace("  dead-time: 10min", "  dead-time: 10min\n  lab: {}"),
+                "target.lab",
+            ),
+            (
+                MINIMAL.replace("  dead-time: 10min", "  full-scale: 100"),
+                "target.full-scale",
+            ),
+        ];
+        for (text, key) in cases {
+            let err = load(&text).expect_err(key).to_string();
+            assert!(err.contains(&format!("`{key}`")), "{key}: {err}");
+        }
+    }
+
+    #[test]
+    fn lab_stamped_at_result_needs_delay() {
+        let text = MINIMAL.replace(
+            "  source: analyzer\n  dead-time: 10min",
+            "  source: lab\n  lab:\n    files: [lab.csv]\n    stamped-at: result",
+        );
+        let err = load(&text).expect_err("no delay").to_string();
+        assert!(err.contains("target.lab.delay"), "{err}");
+        let ok = load(&text.replace("stamped-at: result", "stamped-at: result\n    delay: 2h"))
+            .expect("valid");
+        let lab = ok.target.lab.expect("lab");
+        assert_eq!(lab.delay, Span::from_secs(7200));
+        assert_eq!(lab.timestamp, "time");
+        assert_eq!(lab.files, vec![PathBuf::from("/plant/lab.csv")]);
+    }
+}

@@ -1,0 +1,116 @@
+//! Errors of the data-preparation stage. Each names the file, and where it can, the line and column.
+
+use std::path::PathBuf;
+
+use crate::timestamp::{Rfc3339, TimestampError};
+
+/// Why the data files could not be turned into a dataset.
+#[derive(Debug, thiserror::Error)]
+pub enum DataError {
+    /// The file could not be opened or read.
+    #[error("{path}: cannot read: {source}")]
+    Read {
+        /// File.
+        path: PathBuf,
+        /// OS error.
+        source: std::io::Error,
+    },
+    /// The CSV parser failed (e.g. an unterminated quote).
+    #[error("{path}:{line}: malformed CSV: {message}")]
+    Csv {
+        /// File.
+        path: PathBuf,
+        /// 1-based line.
+        line: u64,
+        /// Parser message.
+        message: String,
+    },
+    /// Nothing in the file.
+    #[error("{path}: the file is empty; expected a header line and data rows")]
+    Empty {
+        /// File.
+        path: PathBuf,
+    },
+    /// A header and no rows.
+    #[error("{path}: the file has a header but no data rows")]
+    HeaderOnly {
+        /// File.
+        path: PathBuf,
+    },
+    /// A column the config names is not in the header.
+    #[error("{path}:1: no column `{column}` (the {role}){hint}")]
+    MissingColumn {
+        /// File.
+        path: PathBuf,
+        /// Name from the config.
+        column: String,
+        /// What the config uses it for.
+        role: &'static str,
+        /// Nearest header names, already formatted.
+        hint: String,
+    },
+    /// The same column name twice in one header.
+    #[error("{path}:1: column `{column}` appears twice in the header")]
+    DuplicateColumn {
+        /// File.
+        path: PathBuf,
+        /// Column name.
+        column: String,
+    },
+    /// A row with a different field count than the header.
+    #[error("{path}:{line}: row has {found} fields but the header has {expected}")]
+    Ragged {
+        /// File.
+        path: PathBuf,
+        /// 1-based line.
+        line: u64,
+        /// Header fields.
+        expected: usize,
+        /// Fields on this row.
+        found: usize,
+    },
+    /// Bytes that are not UTF-8.
+    #[error("{path}:{line}: column {column} (field {field}) is not valid UTF-8; re-export the file as UTF-8")]
+    InvalidUtf8 {
+        /// File.
+        path: PathBuf,
+        /// 1-based line.
+        line: u64,
+        /// Column name, quoted, or `?` in the header.
+        column: String,
+        /// 1-based field number.
+        field: usize,
+    },
+    /// A timestamp cell that does not parse.
+    #[error("{path}:{line}: column `{column}`: {source}")]
+    Timestamp {
+        /// File.
+        path: PathBuf,
+        /// 1-based line.
+        line: u64,
+        /// Timestamp column name.
+        column: String,
+        /// What was wrong.
+        source: TimestampError,
+    },
+    /// Time going backwards inside one file.
+    #[error("{path}:{line}: column `{column}`: time goes backwards ({time} after {previous}); sort the export by time")]
+    NonMonotonic {
+        /// File.
+        path: PathBuf,
+        /// 1-based line.
+        line: u64,
+        /// Timestamp column name.
+        column: String,
+        /// This row's time.
+        time: Rfc3339,
+        /// The previous row's time.
+        previous: Rfc3339,
+    },
+    /// After resampling, nothing is left to work with.
+    #[error("the data span less than one sample-time ({detail})")]
+    TooShort {
+        /// Detail.
+        detail: String,
+    },
+}

@@ -1,0 +1,560 @@
+//! What `regimix check` reports: per-tag findings, time coverage and plain-language warnings.
+
+use std::collections::BTreeMap;
+use std::fmt;
+
+use serde::Serialize;
+
+use super::historian::{RawColumn, RawTable};
+use super::resample::{Grid, GridSeries};
+use super::screen::Stretch;
+use super::target::{LabPlacement, LabSamples};
+use super::{CellStatus, Dataset};
+use crate::config::{Config, TagSpec, TargetSource};
+use crate::duration::Span;
+use crate::timestamp::Rfc3339;
+
+/// A stretch of time on the grid, in readable form.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Period {
+    /// First grid time, RFC 3339 UTC.
+    pub start: String,
+    /// Length, e.g. `3h`.
+    pub duration: String,
+    /// Grid samples in the stretch.
+    pub samples: usize,
+}
+
+impl Period {
+    fn from_stretch(stretch: &Stretch, grid: &Grid) -> Period {
+        Period {
+            start: Rfc3339(grid.time(stretch.start)).to_string(),
+            duration: Span::from_micros(stretch.len as i64 * grid.step).to_string(),
+            samples: stretch.len,
+        }
+    }
+}
+
+/// Findings for one tag.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct TagAudit {
+    /// Column name.
+    pub tag: String,
+    /// Engineering unit.
+    pub unit: String,
+    /// `input` or `target`.
+    pub role: &'static str,
+    /// Rows read (for a lab target: lab results read).
+    pub rows: usize,
+    /// Non-empty cells among those rows.
+    pub observations: usize,
+    /// Usable share of grid samples in percent (lab target: of lab results).
+    pub valid_percent: f64,
+    /// Quality-marker text → count.
+    pub markers: BTreeMap<String, u64>,
+    /// Values outside the configured range.
+    pub out_of_range: usize,
+    /// Frozen stretches.
+    pub frozen: Vec<Period>,
+    /// Samples removed by the Hampel filter.
+    pub spikes: usize,
+    /// Target values outside the transform's domain.
+    pub outside_transform: usize,
+    /// Smallest usable value, in units.
+    pub min: Option<f64>,
+    /// Mean usable value, in units.
+    pub mean: Option<f64>,
+    /// Largest usable value, in units.
+    pub max: Option<f64>,
+    /// Longest stretch with no data at all (gap), if any.
+    pub longest_gap: Option<Period>,
+}
+
+fn stats(values: &[f64], status: &[CellStatus]) -> (usize, Option<f64>, Option<f64>, Option<f64>) {
+    let mut n = 0usize;
+    let (mut lo, mut hi, mut sum) = (f64::INFINITY, f64::NEG_INFINITY, 0.0);
+    for (v, s) in values.iter().zip(status) {
+        if *s == CellStatus::Valid {
+            n += 1;
+            lo = lo.min(*v);
+            hi = hi.max(*v);
+            sum += v;
+        }
+    }
+    if n == 0 {
+        (0, None, None, None)
+    } else {
+        (n, Some(lo), Some(sum / n as f64), Some(hi))
+    }
+}
+
+fn longest_gap(status: &[CellStatus], grid: &Grid) -> Option<Period> {
+    let mut best: Option<Stretch> = None;
+    let mut k = 0;
+    while k < status.len() {
+        if status[k] != CellStatus::NoData {
+            k += 1;
+            continue;
+        }
+        let start = k;
+        while k < status.len() && status[k] == CellStatus::NoData {
+            k += 1;
+        }
+        if best.is_none_or(|b| k - start > b.len) {
+            best = Some(Stretch {
+                start,
+                len: k - start,
+            });
+        }
+    }
+    best.map(|s| Period::from_stretch(&s, grid))
+}
+
+impl TagAudit {
+    /// Findings for a resampled tag (an input or an analyzer target).
+    #[allow(clippy::too_many_arguments)]
+    pub fn new(
+        spec: &TagSpec,
+        role: &'static str,
+        column: &RawColumn,
+        out_of_range: usize,
+        series: &GridSeries,
+        frozen: &[Stretch],
+        spikes: usize,
+        grid: &Grid,
+    ) -> TagAudit {
+        let (n, min, mean, max) = stats(&series.values, &series.status);
+        TagAudit {
+            tag: spec.tag.clone(),
+            unit: spec.unit.clone(),
+            role,
+            rows: column.kinds.len(),
+            observations: column.observations(),
+            valid_percent: 100.0 * n as f64 / grid.len.max(1) as f64,
+            markers: column.markers.clone(),
+            out_of_range,
+            frozen: frozen
+                .iter()
+                .map(|s| Period::from_stretch(s, grid))
+                .collect(),
+            spikes,
+            outside_transform: 0,
+            min,
+            mean,
+            max,
+            longest_gap: longest_gap(&series.status, grid),
+        }
+    }
+
+    /// Findings for a lab target.
+    pub fn for_lab(
+        spec: &TagSpec,
+        samples: &LabSamples,
+        out_of_range: usize,
+        series: &GridSeries,
+        placement: &LabPlacement,
+        _grid: &Grid,
+    ) -> TagAudit {
+        let (_, min, mean, max) = stats(&series.values, &series.status);
+        let rows = samples.times.len();
+        TagAudit {
+            tag: spec.tag.clone(),
+            unit: spec.unit.clone(),
+            role: "target",
+            rows,
+            observations: rows,
+            valid_percent: 100.0 * placement.placed as f64 / rows.max(1) as f64,
+            markers: samples.column.markers.clone(),
+            out_of_range,
+            frozen: Vec::new(),
+            spikes: 0,
+            outside_transform: 0,
+            min,
+            mean,
+            max,
+            longest_gap: None,
+        }
+    }
+}
+
+/// How often each spacing between consecutive raw timestamps occurs.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct IntervalCount {
+    /// Spacing, e.g. `1min`.
+    pub interval: String,
+    /// Occurrences.
+    pub count: usize,
+}
+
+/// One data file and its rows.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct FileRows {
+    /// Path as given.
+    pub path: String,
+    /// Data rows read.
+    pub rows: usize,
+}
+
+/// Target summary.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct TargetAudit {
+    /// `analyzer` or `lab`.
+    pub source: TargetSource,
+    /// Grid rows with a usable target value (after dead-time removal or lab placement).
+    pub usable_samples: usize,
+    /// Lab placement counts (lab targets only).
+    pub lab: Option<LabPlacement>,
+}
+
+/// Everything `check` reports.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Audit {
+    /// Files read.
+    pub files: Vec<FileRows>,
+    /// First timestamp.
+    pub first: String,
+    /// Last timestamp.
+    pub last: String,
+    /// Grid spacing.
+    pub sample_time: String,
+    /// Grid samples.
+    pub grid_samples: usize,
+    /// Rows collapsed by the duplicate-timestamp rule.
+    pub duplicate_rows: usize,
+    /// Median spacing of raw timestamps.
+    pub median_interval: Option<String>,
+    /// Most frequent raw spacings, most frequent first (at most 5).
+    pub intervals: Vec<IntervalCount>,
+    /// Widest spacing between consecutive rows: (time of the row before it, spacing µs).
+    #[serde(skip)]
+    pub widest_raw_gap: Option<(i64, i64)>,
+    /// Widest spacing between consecutive rows, readable.
+    pub widest_gap: Option<Period>,
+    /// Target summary.
+    pub target: TargetAudit,
+    /// Per tag, inputs first, target last.
+    pub tags: Vec<TagAudit>,
+    /// Plain-language warnings.
+    pub warnings: Vec<String>,
+}
+
+impl Audit {
+    /// Collects the audit after preparation.
+    pub fn new(
+        config: &Config,
+        table: &RawTable,
+        dataset: &Dataset,
+        tags: Vec<TagAudit>,
+        lab: Option<LabPlacement>,
+    ) -> Audit {
+        let mut counts: BTreeMap<i64, usize> = BTreeMap::new();
+        for w in table.times.windows(2) {
+            *counts.entry(w[1] - w[0]).or_insert(0) += 1;
+        }
+        let total: usize = counts.values().sum();
+        let median = {
+            let mut seen = 0;
+            counts.iter().find_map(|(gap, c)| {
+                seen += c;
+                (seen * 2 >= total).then_some(*gap)
+            })
+        };
+        let mut frequent: Vec<(i64, usize)> = counts.into_iter().collect();
+        frequent.sort_by(|a, b| b.1.cmp(&a.1).then(a.0.cmp(&b.0)));
+        let intervals = frequent
+            .iter()
+            .take(5)
+            .map(|(gap, count)| IntervalCount {
+                interval: Span::from_micros(*gap).to_string(),
+                count: *count,
+            })
+            .collect();
+        let widest_raw_gap = table
+            .times
+            .windows(2)
+            .map(|w| (w[0], w[1] - w[0]))
+            .max_by_key(|(_, gap)| *gap);
+        let first = table.times.first().copied().unwrap_or(0);
+        let last = table.times.last().copied().unwrap_or(0);
+        let mut audit = Audit {
+            files: table
+                .rows_per_file
+                .iter()
+                .map(|(p, rows)| FileRows {
+                    path: p.display().to_string(),
+                    rows: *rows,
+                })
+                .collect(),
+            first: Rfc3339(first).to_string(),
+            last: Rfc3339(last).to_string(),
+            sample_time: config.sample_time.to_string(),
+            grid_samples: dataset.grid.len,
+            duplicate_rows: table.duplicate_rows,
+            median_interval: median.map(|m| Span::from_micros(m).to_string()),
+            intervals,
+            widest_raw_gap,
+            widest_gap: widest_raw_gap.map(|(at, gap)| Period {
+                start: Rfc3339(at).to_string(),
+                duration: Span::from_micros(gap).to_string(),
+                samples: (gap / config.sample_time.micros()) as usize,
+            }),
+            target: TargetAudit {
+                source: config.target.source,
+                usable_samples: dataset.usable_target_rows(),
+                lab,
+            },
+            tags,
+            warnings: Vec::new(),
+        };
+        audit.warnings = warnings(config, &audit, median);
+        audit
+    }
+}
+
+/// Below this many usable target samples a model cannot be fitted and validated honestly
+/// (common practice: several samples per parameter plus a held-out block).
+pub const MIN_TARGET_SAMPLES: usize = 30;
+
+fn warnings(config: &Config, audit: &Audit, median: Option<i64>) -> Vec<String> {
+    let mut out = Vec::new();
+    let ts = config.sample_time;
+    if let Some(m) = median {
+        let m = Span::from_micros(m);
+        if m > config.hold_limit {
+            out.push(format!(
+                "raw rows come every {m} (median) but hold-limit is {}: most grid samples will be empty; raise hold-limit or sample-time",
+                config.hold_limit
+            ));
+        } else if m > ts {
+            out.push(format!(
+                "raw rows come every {m} (median), slower than sample-time {ts}: values are held between rows"
+            ));
+        }
+    }
+    let widest = audit.widest_raw_gap;
+    if let Some((at, gap)) = widest {
+        if gap > config.hold_limit.micros() {
+            out.push(format!(
+                "no rows at all for {} from {} (an export or historian outage): lag buffers restart after it",
+                Span::from_micros(gap),
+                Rfc3339(at)
+            ));
+        }
+    }
+    if audit.duplicate_rows > 0 {
+        out.push(format!(
+            "{} rows share a timestamp with another row; for each tag the last value was kept",
+            audit.duplicate_rows
+        ));
+    }
+    for tag in &audit.tags {
+        let name = &tag.tag;
+        if tag.role == "input" && tag.valid_percent < 80.0 {
+            out.push(format!(
+                "{name}: only {:.1} % of samples are usable (gaps, quality markers, frozen values, spikes or out of range)",
+                tag.valid_percent
+            ));
+        }
+        for f in &tag.frozen {
+            out.push(format!(
+                "{name}: frozen for {} from {} — check the transmitter and its historian compression",
+                f.duration, f.start
+            ));
+        }
+        let marker_total: u64 = tag.markers.values().sum();
+        if marker_total > 0 {
+            let kinds: Vec<&str> = tag.markers.keys().map(String::as_str).take(4).collect();
+            out.push(format!(
+                "{name}: {marker_total} cells carry quality markers ({})",
+                kinds.join(", ")
+            ));
+        }
+        if tag.out_of_range > 0 {
+            out.push(format!(
+                "{name}: {} values outside the configured range",
+                tag.out_of_range
+            ));
+        }
+        if tag.spikes > 0 {
+            out.push(format!(
+                "{name}: {} spikes removed by the Hampel filter",
+                tag.spikes
+            ));
+        }
+        if tag.outside_transform > 0 {
+            out.push(format!(
+                "{name}: {} values outside the domain of the target transform (≤ 0 for log; outside (0, full-scale) for logit)",
+                tag.outside_transform
+            ));
+        }
+        let spec = if tag.role == "target" {
+            Some(&config.target.spec)
+        } else {
+            config.inputs.iter().find(|s| s.tag == tag.tag)
+        };
+        if let (Some(lo), Some(hi), Some(spec)) = (tag.min, tag.max, spec) {
+            if hi - lo <= spec.resolution {
+                out.push(format!(
+                    "{name}: does not vary over the data (range {} ≤ resolution): it carries no information",
+                    hi - lo
+                ));
+            }
+        }
+        if tag.role == "input" {
+            if let Some(gap) = &tag.longest_gap {
+                let tag_gap = gap.samples as i64 * ts.micros();
+                let explained = widest.is_some_and(|(_, g)| tag_gap <= g);
+                if !explained && tag_gap > 12 * config.hold_limit.micros().max(ts.micros()) {
+                    out.push(format!(
+                        "{name}: longest gap {} from {}: lag buffers restart after it",
+                        gap.duration, gap.start
+                    ));
+                }
+            }
+        }
+    }
+    if audit.target.usable_samples == 0 {
+        out.push("the target has no usable samples: nothing to fit a model to".to_string());
+    } else if audit.target.usable_samples < MIN_TARGET_SAMPLES {
+        out.push(format!(
+            "only {} usable target samples: too few to fit and validate a model (aim for well over {MIN_TARGET_SAMPLES})",
+            audit.target.usable_samples
+        ));
+    }
+    if let Some(lab) = &audit.target.lab {
+        if lab.outside_span > 0 {
+            out.push(format!(
+                "{} lab results fall outside the time span of the process data and were not used",
+                lab.outside_span
+            ));
+        }
+        if lab.same_row > 0 {
+            out.push(format!(
+                "{} lab results share a sample-time row with a later one; the later result was kept",
+                lab.same_row
+            ));
+        }
+    }
+    out
+}
+
+fn num(v: Option<f64>) -> String {
+    match v {
+        Some(x) if x != 0.0 && (x.abs() >= 1e5 || x.abs() < 1e-3) => format!("{x:.4e}"),
+        Some(x) => format!("{x:.4}"),
+        None => "—".to_string(),
+    }
+}
+
+impl fmt::Display for Audit {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        writeln!(f, "Data")?;
+        for file in &self.files {
+            writeln!(f, "  {} ({} rows)", file.path, file.rows)?;
+        }
+        writeln!(f, "  time span        {} → {}", self.first, self.last)?;
+        let spacing: Vec<String> = self
+            .intervals
+            .iter()
+            .map(|i| format!("{} ×{}", i.interval, i.count))
+            .collect();
+        writeln!(
+            f,
+            "  raw spacing      median {}; most frequent: {}",
+            self.median_interval.as_deref().unwrap_or("—"),
+            spacing.join(", ")
+        )?;
+        writeln!(
+            f,
+            "  grid             {} samples every {}",
+            self.grid_samples, self.sample_time
+        )?;
+        writeln!(f, "  duplicate rows   {}", self.duplicate_rows)?;
+        writeln!(
+            f,
+            "  target           {} usable samples ({})",
+            self.target.usable_samples,
+            match self.target.source {
+                TargetSource::Analyzer => "analyzer",
+                TargetSource::Lab => "lab",
+            }
+        )?;
+        writeln!(f)?;
+        writeln!(f, "Tags")?;
+        writeln!(
+            f,
+            "  {:<16} {:<7} {:>8} {:>7} {:>7} {:>7} {:>6} {:>6}  {:>11} {:>11} {:>11}  unit",
+            "tag",
+            "role",
+            "rows",
+            "valid%",
+            "markers",
+            "frozen",
+            "spikes",
+            "range",
+            "min",
+            "mean",
+            "max"
+        )?;
+        for t in &self.tags {
+            let markers: u64 = t.markers.values().sum();
+            let frozen: usize = t.frozen.iter().map(|p| p.samples).sum();
+            writeln!(
+                f,
+                "  {:<16} {:<7} {:>8} {:>7.1} {:>7} {:>7} {:>6} {:>6}  {:>11} {:>11} {:>11}  {}",
+                t.tag,
+                t.role,
+                t.rows,
+                t.valid_percent,
+                markers,
+                frozen,
+                t.spikes,
+                t.out_of_range,
+                num(t.min),
+                num(t.mean),
+                num(t.max),
+                t.unit
+            )?;
+        }
+        let with_markers: Vec<&TagAudit> =
+            self.tags.iter().filter(|t| !t.markers.is_empty()).collect();
+        if !with_markers.is_empty() {
+            writeln!(f)?;
+            writeln!(f, "Quality markers")?;
+            for t in with_markers {
+                let list: Vec<String> = t
+                    .markers
+                    .iter()
+                    .map(|(k, v)| format!("\"{k}\" ×{v}"))
+                    .collect();
+                writeln!(f, "  {:<16} {}", t.tag, list.join(", "))?;
+            }
+        }
+        let frozen: Vec<(&str, &Period)> = self
+            .tags
+            .iter()
+            .flat_map(|t| t.frozen.iter().map(move |p| (t.tag.as_str(), p)))
+            .collect();
+        if !frozen.is_empty() {
+            writeln!(f)?;
+            writeln!(f, "Frozen stretches")?;
+            for (tag, p) in frozen {
+                writeln!(
+                    f,
+                    "  {:<16} from {} for {} ({} samples)",
+                    tag, p.start, p.duration, p.samples
+                )?;
+            }
+        }
+        writeln!(f)?;
+        if self.warnings.is_empty() {
+            writeln!(f, "No warnings.")?;
+        } else {
+            writeln!(f, "Warnings")?;
+            for w in &self.warnings {
+                writeln!(f, "  - {w}")?;
+            }
+        }
+        Ok(())
+    }
+}

@@ -1,0 +1,509 @@
+//! Streaming reader for historian CSV exports.
+//!
+//! Rows are read one at a time into per-tag columns (the file is never held as one string). A
+//! numeric cell becomes a value; an empty cell means "no observation at this time" (tags logged at
+//! different moments leave blanks in a wide export); any other text (`Bad`, `I/O Timeout`,
+//! `Shutdown`, `NaN`) is a quality marker: an observation known to be bad, counted per tag and per
+//! distinct text. Timestamps must not go backwards inside one file. Several files are merged by
+//! time; for duplicated timestamps the rule of [`merge`] applies.
+
+use std::collections::BTreeMap;
+use std::fs::File;
+use std::io::BufReader;
+use std::path::{Path, PathBuf};
+
+use crate::error::DataError;
+use crate::suggest::nearest;
+use crate::timestamp::{parse_timestamp, Micros, Rfc3339};
+
+/// What one raw cell held.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[repr(u8)]
+pub enum Observation {
+    /// A finite number.
+    Value = 0,
+    /// Nothing: no observation at this time.
+    Empty = 1,
+    /// A quality marker or non-finite number: a bad observation.
+    Marker = 2,
+    /// A number outside the tag's valid range (set by screening, not by the reader).
+    OutOfRange = 3,
+}
+
+/// One tag's raw observations, aligned with [`RawTable::times`].
+#[derive(Debug, Clone, PartialEq)]
+pub struct RawColumn {
+    /// Column name.
+    pub name: String,
+    /// Values; `NaN` where the cell was not a value.
+    pub values: Vec<f64>,
+    /// What each cell held.
+    pub kinds: Vec<Observation>,
+    /// Quality-marker text → count.
+    pub markers: BTreeMap<String, u64>,
+}
+
+impl RawColumn {
+    /// A column with no cells.
+    pub fn empty(name: &str) -> Self {
+        Self::new(name)
+    }
+
+    fn new(name: &str) -> Self {
+        RawColumn {
+            name: name.to_string(),
+            values: Vec::new(),
+            kinds: Vec::new(),
+            markers: BTreeMap::new(),
+        }
+    }
+
+    fn push_cell(&mut self, text: &str) {
+        let t = text.trim();
+        if t.is_empty() {
+            self.values.push(f64::NAN);
+            self.kinds.push(Observation::Empty);
+            return;
+        }
+        match t.parse::<f64>() {
+            Ok(v) if v.is_finite() => {
+                self.values.push(v);
+                self.kinds.push(Observation::Value);
+            }
+            _ => {
+                self.values.push(f64::NAN);
+                self.kinds.push(Observation::Marker);
+                if let Some(count) = self.markers.get_mut(t) {
+                    *count += 1;
+                } else {
+                    self.markers.insert(t.to_string(), 1);
+                }
+            }
+        }
+    }
+
+    /// Number of non-empty cells.
+    pub fn observations(&self) -> usize {
+        self.kinds
+            .iter()
+            .filter(|k| **k != Observation::Empty)
+            .count()
+    }
+}
+
+/// Rows of one or more files: timestamps and the requested columns.
+#[derive(Debug, Clone, PartialEq)]
+pub struct RawTable {
+    /// Row times, microseconds since the epoch (sorted after [`merge`]).
+    pub times: Vec<Micros>,
+    /// Requested columns, in request order.
+    pub columns: Vec<RawColumn>,
+    /// Rows read per file.
+    pub rows_per_file: Vec<(PathBuf, usize)>,
+    /// Rows dropped by the duplicate-timestamp rule.
+    pub duplicate_rows: usize,
+}
+
+/// How to read a file.
+#[derive(Debug, Clone)]
+pub struct ReadSpec<'a> {
+    /// Field delimiter.
+    pub delimiter: u8,
+    /// Timestamp column name.
+    pub timestamp: &'a str,
+    /// Columns to read, with the role used in error messages (`"input"`, `"target"`).
+    pub columns: &'a [(String, &'static str)],
+    /// Offset of naive timestamps, minutes east of UTC.
+    pub naive_offset_minutes: i32,
+}
+
+fn csv_error(path: &Path, err: csv::Error) -> DataError {
+    let line = err.position().map(|p| p.line()).unwrap_or(0);
+    match err.into_kind() {
+        csv::ErrorKind::Io(source) => DataError::Read {
+            path: path.to_path_buf(),
+            source,
+        },
+        other => DataError::Csv {
+            path: path.to_path_buf(),
+            line,
+            message: format!("{other:?}"),
+        },
+    }
+}
+
+fn field_str<'r>(
+    record: &'r csv::ByteRecord,
+    index: usize,
+    path: &Path,
+    line: u64,
+    header: &[String],
+) -> Result<&'r str, DataError> {
+    let bytes = record.get(index).unwrap_or(b"");
+    std::str::from_utf8(bytes).map_err(|_| DataError::InvalidUtf8 {
+        path: path.to_path_buf(),
+        line,
+        column: header
+            .get(index)
+            .map(|h| format!("`{h}`"))
+            .unwrap_or_else(|| "?".into()),
+        field: index + 1,
+    })
+}
+
+/// Reads one file, streaming, keeping only the timestamp and the requested columns.
+pub fn read_file(path: &Path, spec: &ReadSpec<'_>) -> Result<RawTable, DataError> {
+    let file = File::open(path).map_err(|source| DataError::Read {
+        path: path.to_path_buf(),
+        source,
+    })?;
+    let mut reader = csv::ReaderBuilder::new()
+        .delimiter(spec.delimiter)
+        .has_headers(false)
+        .flexible(true)
+        .buffer_capacity(1 << 16)
+        .from_reader(BufReader::with_capacity(1 << 16, file));
+    let mut record = csv::ByteRecord::new();
+    if !reader
+        .read_byte_record(&mut record)
+        .map_err(|e| csv_error(path, e))?
+    {
+        return Err(DataError::Empty {
+            path: path.to_path_buf(),
+        });
+    }
+    let mut header = Vec::with_capacity(record.len());
+    for i in 0..record.len() {
+        let name = field_str(&record, i, path, 1, &[])?;
+        let name = name.trim_start_matches('\u{feff}').trim();
+        if header.iter().any(|h: &String| h == name) && !name.is_empty() {
+            return Err(DataError::DuplicateColumn {
+                path: path.to_path_buf(),
+                column: name.to_string(),
+            });
+        }
+        header.push(name.to_string());
+    }
+    let locate = |name: &str, role: &'static str| -> Result<usize, DataError> {
+        header.iter().position(|h| h == name).ok_or_else(|| {
+            let close = nearest(name, header.iter().map(String::as_str), 3);
+            let hint = if close.is_empty() {
+                format!("; the header has: {}", shorten_list(&header))
+            } else {
+                format!(
+                    "; did you mean {}?",
+                    close
+                        .iter()
+                        .map(|c| format!("`{c}`"))
+                        .collect::<Vec<_>>()
+                        .join(", ")
+                )
+            };
+            DataError::MissingColumn {
+                path: path.to_path_buf(),
+                column: name.to_string(),
+                role,
+                hint,
+            }
+        })
+    };
+    let ts_index = locate(spec.timestamp, "timestamp column")?;
+    let mut wanted = Vec::with_capacity(spec.columns.len());
+    for (name, role) in spec.columns {
+        wanted.push(locate(name, role)?);
+    }
+    let mut columns: Vec<RawColumn> = spec
+        .columns
+        .iter()
+        .map(|(n, _)| RawColumn::new(n))
+        .collect();
+    let mut times = Vec::new();
+    let mut previous: Option<Micros> = None;
+    while reader
+        .read_byte_record(&mut record)
+        .map_err(|e| csv_error(path, e))?
+    {
+        let line = record.position().map(|p| p.line()).unwrap_or(0);
+        if record.len() == 1
+            && record
+                .get(0)
+                .is_some_and(|f| f.iter().all(u8::is_ascii_whitespace))
+        {
+            continue; // blank line
+        }
+        if record.len() != header.len() {
+            return Err(DataError::Ragged {
+                path: path.to_path_buf(),
+                line,
+                expected: header.len(),
+                found: record.len(),
+            });
+        }
+        if std::str::from_utf8(record.as_slice()).is_err() {
+            for i in 0..record.len() {
+                field_str(&record, i, path, line, &header)?;
+            }
+        }
+        let ts_text = field_str(&record, ts_index, path, line, &header)?;
+        let time = parse_timestamp(ts_text, spec.naive_offset_minutes).map_err(|source| {
+            DataError::Timestamp {
+                path: path.to_path_buf(),
+                line,
+                column: spec.timestamp.to_string(),
+                source,
+            }
+        })?;
+        if let Some(prev) = previous {
+            if time < prev {
+                return Err(DataError::NonMonotonic {
+                    path: path.to_path_buf(),
+                    line,
+                    column: spec.timestamp.to_string(),
+                    time: Rfc3339(time),
+                    previous: Rfc3339(prev),
+                });
+            }
+        }
+        previous = Some(time);
+        times.push(time);
+        for (column, &index) in columns.iter_mut().zip(&wanted) {
+            column.push_cell(field_str(&record, index, path, line, &header)?);
+        }
+    }
+    if times.is_empty() {
+        return Err(DataError::HeaderOnly {
+            path: path.to_path_buf(),
+        });
+    }
+    let rows = times.len();
+    Ok(RawTable {
+        times,
+        columns,
+        rows_per_file: vec![(path.to_path_buf(), rows)],
+        duplicate_rows: 0,
+    })
+}
+
+fn shorten_list(names: &[String]) -> String {
+    let mut out: Vec<String> = names.iter().take(12).map(|n| format!("`{n}`")).collect();
+    if names.len() > 12 {
+        out.push(format!("… ({} more)", names.len() - 12));
+    }
+    out.join(", ")
+}
+
+/// Reads every file and merges them into one table sorted by time.
+pub fn read_files(paths: &[PathBuf], spec: &ReadSpec<'_>) -> Result<RawTable, DataError> {
+    let mut tables = Vec::with_capacity(paths.len());
+    for path in paths {
+        tables.push(read_file(path, spec)?);
+    }
+    Ok(merge(tables))
+}
+
+/// Merges tables with the same columns into one, sorted by time.
+///
+/// **Duplicate timestamps.** Rows with equal times (within a file, or across files) collapse into
+/// one row. For each tag the last *value* wins, taking rows in file order then line order; if no
+/// row has a value, the last marker wins (so a `Bad` is kept as bad); if all are empty, the cell
+/// is empty. The number of collapsed rows is reported by `check`.
+pub fn merge(mut tables: Vec<RawTable>) -> RawTable {
+    let Some(first) = tables.first_mut() else {
+        return RawTable {
+            times: Vec::new(),
+            columns: Vec::new(),
+            rows_per_file: Vec::new(),
+            duplicate_rows: 0,
+        };
+    };
+    let mut out = RawTable {
+        times: std::mem::take(&mut first.times),
+        columns: std::mem::take(&mut first.columns),
+        rows_per_file: std::mem::take(&mut first.rows_per_file),
+        duplicate_rows: 0,
+    };
+    for table in tables.into_iter().skip(1) {
+        out.times.extend_from_slice(&table.times);
+        out.rows_per_file.extend(table.rows_per_file);
+        for (dst, src) in out.columns.iter_mut().zip(table.columns) {
+            dst.values.extend_from_slice(&src.values);
+            dst.kinds.extend_from_slice(&src.kinds);
+            for (text, count) in src.markers {
+                *dst.markers.entry(text).or_insert(0) += count;
+            }
+        }
+    }
+    if !out.times.windows(2).all(|w| w[0] <= w[1]) {
+        let mut order: Vec<u32> = (0..out.times.len() as u32).collect();
+        order.sort_by_key(|&i| out.times[i as usize]); // stable: file order kept for equal times
+        out.times = order.iter().map(|&i| out.times[i as usize]).collect();
+        for column in &mut out.columns {
+            column.values = order.iter().map(|&i| column.values[i as usize]).collect();
+            column.kinds = order.iter().map(|&i| column.kinds[i as usize]).collect();
+        }
+    }
+    collapse_duplicates(&mut out);
+    out
+}
+
+fn collapse_duplicates(table: &mut RawTable) {
+    if table.times.windows(2).all(|w| w[0] < w[1]) {
+        return;
+    }
+    let n = table.times.len();
+    let mut write = 0usize;
+    let mut read = 0usize;
+    while read < n {
+        let mut end = read + 1;
+        while end < n && table.times[end] == table.times[read] {
+            end += 1;
+        }
+        table.times[write] = table.times[read];
+        for column in &mut table.columns {
+            let pick = (read..end)
+                .rev()
+                .find(|&i| column.kinds[i] == Observation::Value)
+                .or_else(|| {
+                    (read..end)
+                        .rev()
+                        .find(|&i| column.kinds[i] != Observation::Empty)
+                })
+                .unwrap_or(end - 1);
+            column.values[write] = column.values[pick];
+            column.kinds[write] = column.kinds[pick];
+        }
+        table.duplicate_rows += end - read - 1;
+        write += 1;
+        read = end;
+    }
+    table.times.truncate(write);
+    for column in &mut table.columns {
+        column.values.truncate(write);
+        column.kinds.truncate(write);
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use std::io::Write;
+
+    fn spec<'a>(columns: &'a [(String, &'static str)]) -> ReadSpec<'a> {
+        ReadSpec {
+            delimiter: b',',
+            timestamp: "time",
+            columns,
+            naive_offset_minutes: 0,
+        }
+    }
+
+    fn file_with(text: &[u8]) -> tempfile::NamedTempFile {
+        let mut f = tempfile::NamedTempFile::new().expect("temp file");
+        f.write_all(text).expect("write");
+        f
+    }
+
+    fn cols(names: &[&str]) -> Vec<(String, &'static str)> {
+        names.iter().map(|n| (n.to_string(), "input")).collect()
+    }
+
+    #[test]
+    fn reads_values_markers_and_blanks() {
+        let f = file_with(
+            b"time,TI-1,FI-2\n2026-03-01 00:00:00,1.5,Bad\n2026-03-01 00:01:00,,I/O Timeout\n2026-03-01 00:02:00,NaN,Bad\n",
+        );
+        let c = cols(&["FI-2", "TI-1"]);
+        let t = read_file(f.path(), &spec(&c)).expect("reads");
+        assert_eq!(t.times.len(), 3);
+        assert_eq!(t.columns[0].name, "FI-2");
+        assert_eq!(t.columns[0].markers.get("Bad"), Some(&2));
+        assert_eq!(t.columns[0].markers.get("I/O Timeout"), Some(&1));
+        assert_eq!(
+            t.columns[1].kinds,
+            vec![Observation::Value, Observation::Empty, Observation::Marker]
+        );
+        assert_eq!(t.columns[1].values[0], 1.5);
+        assert_eq!(t.columns[1].markers.get("NaN"), Some(&1));
+    }
+
+    #[test]
+    fn other_delimiters_and_bom() {
+        let f = file_with("\u{feff}time;TI-1\n1772323200;2.5\n".as_bytes());
+        let c = cols(&["TI-1"]);
+        let mut s = spec(&c);
+        s.delimiter = b';';
+        let t = read_file(f.path(), &s).expect("reads");
+        assert_eq!(t.columns[0].values, vec![2.5]);
+    }
+
+    #[test]
+    fn bad_files_name_file_line_and_column() {
+        let c = cols(&["TI-1"]);
+        let cases: Vec<(&[u8], &str)> = vec![
+            (b"", "file is empty"),
+            (b"time,TI-1\n", "header but no data rows"),
+            (
+                b"time,TI-1\n2026-03-01 00:00:00,1\n2026-03-01 00:01:00,1,2\n",
+                ":3: row has 3 fields but the header has 2",
+            ),
+            (
+                b"time,TI-1\n2026-03-01 00:00:00,1\nyesterday,2\n",
+                ":3: column `time`: `yesterday` is not a timestamp",
+            ),
+            (
+                b"time,TI-1\n2026-03-01 00:01:00,1\n2026-03-01 00:00:00,2\n",
+                ":3: column `time`: time goes backwards",
+            ),
+            (
+                b"time,TI-1\n2026-03-01 00:00:00,\xff\xfe\n",
+                ":2: column `TI-1` (field 2) is not valid UTF-8",
+            ),
+            (
+                b"time,TI-2\n2026-03-01 00:00:00,1\n",
+                ":1: no column `TI-1` (the input); did you mean `TI-2`?",
+            ),
+            (
+                b"time,TI-1,TI-1\n2026-03-01 00:00:00,1,1\n",
+                "column `TI-1` appears twice",
+            ),
+        ];
+        for (text, expected) in cases {
+            let f = file_with(text);
+            let err = read_file(f.path(), &spec(&c))
+                .expect_err(expected)
+                .to_string();
+            assert!(err.contains(expected), "expected `{expected}` in `{err}`");
+            assert!(err.starts_with(&f.path().display().to_string()), "{err}");
+        }
+        let missing = read_file(Path::new("/no/such/file.csv"), &spec(&c)).expect_err("missing");
+        assert!(missing
+            .to_string()
+            .contains("/no/such/file.csv: cannot read"));
+    }
+
+    #[test]
+    fn merge_sorts_files_and_keeps_last_value_of_duplicates() {
+        let a = file_with(b"time,TI-1\n2026-03-01 00:02:00,3\n2026-03-01 00:03:00,4\n");
+        let b = file_with(
+            b"time,TI-1\n2026-03-01 00:00:00,1\n2026-03-01 00:01:00,2\n2026-03-01 00:01:00,Bad\n2026-03-01 00:02:00,30\n",
+        );
+        let c = cols(&["TI-1"]);
+        let t = read_files(&[a.path().to_path_buf(), b.path().to_path_buf()], &spec(&c))
+            .expect("merge");
+        assert_eq!(t.times.len(), 4);
+        assert!(t.times.windows(2).all(|w| w[0] < w[1]));
+        // 00:01 has a value (2) and a later marker: the value wins. 00:02: file b is later, 30 wins.
+        assert_eq!(t.columns[0].values, vec![1.0, 2.0, 30.0, 4.0]);
+        assert_eq!(t.duplicate_rows, 2);
+        assert_eq!(t.rows_per_file.len(), 2);
+    }
+
+    #[test]
+    fn duplicates_with_only_markers_stay_bad() {
+        let a = file_with(b"time,TI-1\n2026-03-01 00:00:00,Bad\n2026-03-01 00:00:00,\n");
+        let c = cols(&["TI-1"]);
+        let t = read_files(&[a.path().to_path_buf()], &spec(&c)).expect("reads");
+        assert_eq!(t.columns[0].kinds, vec![Observation::Marker]);
+        assert_eq!(t.duplicate_rows, 1);
+    }
+}

@@ -1,0 +1,276 @@
+//! Data preparation: historian files → an aligned [`Dataset`] and an [`Audit`] of what was found.
+//!
+//! Steps, in order: read and merge the files ([`historian`]); mark values outside each tag's
+//! valid range; resample onto the grid ([`resample`]); mark frozen stretches and Hampel spikes
+//! ([`screen`]); align the target ([`target`]); apply the target transform.
+
+pub mod audit;
+pub mod historian;
+pub mod resample;
+pub mod screen;
+pub mod target;
+
+use ndarray::Array2;
+use regimix_format::transform::Transform;
+
+use crate::config::{Config, TagSpec, TransformKind};
+use crate::error::DataError;
+use crate::timestamp::Micros;
+use audit::{Audit, TagAudit};
+use historian::{RawColumn, ReadSpec};
+use resample::{Grid, GridSeries};
+
+/// Status of one grid cell.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, serde::Serialize)]
+#[serde(rename_all = "kebab-case")]
+#[repr(u8)]
+pub enum CellStatus {
+    /// A usable value.
+    Valid = 0,
+    /// No observation within the hold limit (a gap).
+    NoData = 1,
+    /// The last observation was a quality marker.
+    Bad = 2,
+    /// The last observation was outside the tag's valid range.
+    OutOfRange = 3,
+    /// Part of a frozen stretch.
+    Frozen = 4,
+    /// Flagged by the Hampel filter.
+    Spike = 5,
+    /// Outside the domain of the target transform (e.g. ≤ 0 for `log`).
+    OutsideTransform = 6,
+}
+
+/// The aligned data every later stage works on.
+#[derive(Debug, Clone)]
+pub struct Dataset {
+    /// The sample grid.
+    pub grid: Grid,
+    /// Input tags, in config order (columns of `inputs`).
+    pub input_tags: Vec<TagSpec>,
+    /// Inputs in engineering units, `len × inputs`; `NaN` where not valid.
+    pub inputs: Array2<f64>,
+    /// Status of each input cell.
+    pub input_status: Array2<CellStatus>,
+    /// Target in engineering units at process time (analyzer dead time removed, lab values at
+    /// their sample time); `NaN` where there is no usable value.
+    pub target: Vec<f64>,
+    /// Target in the model domain (after the transform).
+    pub target_model: Vec<f64>,
+    /// Status of each target cell.
+    pub target_status: Vec<CellStatus>,
+    /// The target transform.
+    pub transform: Transform,
+}
+
+impl Dataset {
+    /// Grid time of row `k`.
+    pub fn time(&self, k: usize) -> Micros {
+        self.grid.time(k)
+    }
+
+    /// Rows where the target is usable.
+    pub fn usable_target_rows(&self) -> usize {
+        self.target_status
+            .iter()
+            .filter(|s| **s == CellStatus::Valid)
+            .count()
+    }
+}
+
+/// The transform a config asks for.
+pub fn transform_of(config: &Config) -> Transform {
+    match config.target.transform {
+        TransformKind::None => Transform::Identity,
+        TransformKind::Log => Transform::Log,
+        TransformKind::Logit => Transform::Logit {
+            full_scale: config.target.full_scale,
+        },
+    }
+}
+
+/// What preparation produced.
+#[derive(Debug, Clone)]
+pub struct Prepared {
+    /// The aligned data.
+    pub dataset: Dataset,
+    /// Findings per tag, for `check` and the report.
+    pub audit: Audit,
+}
+
+/// Screens one resampled tag and returns its audit entry. Spikes are looked for in the model
+/// domain (`transform`): for a log-transformed impurity the noise is proportional to the level,
+/// so a Hampel filter on raw values would flag every fast rise.
+#[allow(clippy::too_many_arguments)]
+fn screen_tag(
+    spec: &TagSpec,
+    role: &'static str,
+    column: &RawColumn,
+    out_of_range: usize,
+    series: &mut GridSeries,
+    config: &Config,
+    grid: &Grid,
+    transform: Transform,
+) -> TagAudit {
+    let frozen_steps = spec.frozen_after.whole_steps(config.sample_time) as usize;
+    let frozen = screen::mark_frozen(series, spec.resolution, frozen_steps);
+    let half = config.screening.spike_half_window;
+    let threshold = config.screening.spike_threshold;
+    let spikes = if transform == Transform::Identity {
+        screen::mark_spikes(series, half, threshold, spec.resolution)
+    } else {
+        let mut model = GridSeries {
+            values: series
+                .values
+                .iter()
+                .map(|&v| transform.forward(v).unwrap_or(f64::NAN))
+                .collect(),
+            status: series.status.clone(),
+        };
+        let count = screen::mark_spikes_with_floor(&mut model, half, threshold, |median_z| {
+            spec.resolution / transform.inverse_slope(median_z)
+        });
+        for (k, status) in model.status.iter().enumerate() {
+            if *status == CellStatus::Spike {
+                series.status[k] = CellStatus::Spike;
+                series.values[k] = f64::NAN;
+            }
+        }
+        count
+    };
+    TagAudit::new(
+        spec,
+        role,
+        column,
+        out_of_range,
+        series,
+        &frozen,
+        spikes,
+        grid,
+    )
+}
+
+/// Runs every preparation step on the files named in `config`.
+pub fn prepare(config: &Config) -> Result<Prepared, DataError> {
+    let analyzer = config.target.lab.is_none();
+    let lab_in_data = config
+        .target
+        .lab
+        .as_ref()
+        .is_some_and(|l| l.files.is_empty());
+    let mut columns: Vec<(String, &'static str)> = config
+        .inputs
+        .iter()
+        .map(|t| (t.tag.clone(), "input"))
+        .collect();
+    if analyzer || lab_in_data {
+        columns.push((config.target.spec.tag.clone(), "target"));
+    }
+    let spec = ReadSpec {
+        delimiter: config.delimiter,
+        timestamp: &config.timestamp,
+        columns: &columns,
+        naive_offset_minutes: config.naive_offset_minutes,
+    };
+    let mut table = historian::read_files(&config.files, &spec)?;
+    let (first, last) = match (table.times.first(), table.times.last()) {
+        (Some(f), Some(l)) => (*f, *l),
+        _ => {
+            return Err(DataError::TooShort {
+                detail: "no rows".into(),
+            })
+        }
+    };
+    let grid = Grid::spanning(first, last, config.sample_time.micros());
+    if grid.len < 2 {
+        return Err(DataError::TooShort {
+            detail: format!(
+                "from {} to {}",
+                crate::timestamp::Rfc3339(first),
+                crate::timestamp::Rfc3339(last)
+            ),
+        });
+    }
+    let hold = config.hold_limit.micros();
+    let transform = transform_of(config);
+    let p = config.inputs.len();
+    let mut inputs = Array2::from_elem((grid.len, p), f64::NAN);
+    let mut input_status = Array2::from_elem((grid.len, p), CellStatus::NoData);
+    let mut tags = Vec::with_capacity(p + 1);
+    for (j, spec) in config.inputs.iter().enumerate() {
+        let column = &mut table.columns[j];
+        let out_of_range = screen::apply_range(column, spec.range);
+        let mut series = resample::resample(&table.times, column, &grid, hold);
+        tags.push(screen_tag(
+            spec,
+            "input",
+            column,
+            out_of_range,
+            &mut series,
+            config,
+            &grid,
+            Transform::Identity,
+        ));
+        inputs
+            .column_mut(j)
+            .assign(&ndarray::ArrayView1::from(&series.values));
+        input_status
+            .column_mut(j)
+            .assign(&ndarray::ArrayView1::from(&series.status));
+        table.columns[j].values = Vec::new(); // free raw memory as soon as a tag is done
+    }
+    let target_spec = &config.target.spec;
+    let (series, target_audit, lab) = if analyzer {
+        let column = &mut table.columns[p];
+        let out_of_range = screen::apply_range(column, target_spec.range);
+        let mut series = resample::resample(&table.times, column, &grid, hold);
+        let audit = screen_tag(
+            target_spec,
+            "target",
+            column,
+            out_of_range,
+            &mut series,
+            config,
+            &grid,
+            transform,
+        );
+        let shift = config.target.dead_time.whole_steps(config.sample_time) as usize;
+        (target::remove_dead_time(series, shift), audit, None)
+    } else {
+        let lab_spec = config
+            .target
+            .lab
+            .as_ref()
+            .ok_or_else(|| DataError::TooShort {
+                detail: "lab settings missing".into(),
+            })?;
+        let mut samples = if lab_in_data {
+            let column =
+                std::mem::replace(&mut table.columns[p], RawColumn::empty(&target_spec.tag));
+            target::LabSamples::from_column(&table.times, column)
+        } else {
+            target::read_lab_files(lab_spec, &target_spec.tag, config)?
+        };
+        let out_of_range = screen::apply_range(&mut samples.column, target_spec.range);
+        let (series, placed) = target::place_lab(&samples, lab_spec.delay.micros(), &grid);
+        let audit = TagAudit::for_lab(target_spec, &samples, out_of_range, &series, &placed, &grid);
+        (series, audit, Some(placed))
+    };
+    tags.push(target_audit);
+    let (target_model, target_status, outside) = target::apply_transform(&series, transform);
+    if let Some(last) = tags.last_mut() {
+        last.outside_transform = outside;
+    }
+    let dataset = Dataset {
+        grid,
+        input_tags: config.inputs.clone(),
+        inputs,
+        input_status,
+        target: series.values,
+        target_model,
+        target_status,
+        transform,
+    };
+    let audit = Audit::new(config, &table, &dataset, tags, lab);
+    Ok(Prepared { dataset, audit })
+}

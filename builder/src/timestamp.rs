@@ -1,0 +1,398 @@
+//! Timestamp parsing for historian exports.
+//!
+//! Accepted forms (one rule for every cell, so mixed files still work):
+//! - RFC 3339 / ISO 8601 date-times: `2026-03-01T08:15:00Z`, `2026-03-01T08:15:00.25+01:00`,
+//!   lower-case `t`/`z`, a space instead of `T`, offsets as `+hh:mm` or `+hhmm`;
+//! - the same without an offset (`2026-03-01 08:15:00`): the configured offset for naive times applies;
+//! - a date alone (`2026-03-01`): midnight;
+//! - epoch seconds, with or without a fraction (`1772352900`, `1772352900.5`).
+//!
+//! A leap second (`:60`) is read as the first instant of the next minute. Times are held as
+//! microseconds since 1970-01-01T00:00:00Z; finer digits are rounded to the microsecond.
+
+use std::fmt;
+
+/// Microseconds since the Unix epoch, UTC.
+pub type Micros = i64;
+
+/// Why a timestamp cell was rejected.
+#[derive(Debug, Clone, PartialEq, Eq, thiserror::Error)]
+#[error("`{text}` is not a timestamp ({reason}); expected RFC 3339 like `2026-03-01T08:15:00Z`, `2026-03-01 08:15:00` or epoch seconds")]
+pub struct TimestampError {
+    /// The cell text (shortened when long).
+    pub text: String,
+    /// What was wrong with it.
+    pub reason: &'static str,
+}
+
+fn fail(text: &str, reason: &'static str) -> TimestampError {
+    let mut shown: String = text.chars().take(40).collect();
+    if text.chars().count() > 40 {
+        shown.push('…');
+    }
+    TimestampError {
+        text: shown,
+        reason,
+    }
+}
+
+/// Days from 1970-01-01 to the given civil date (proleptic Gregorian); Hinnant's algorithm.
+pub fn days_from_civil(year: i64, month: u32, day: u32) -> i64 {
+    let y = if month <= 2 { year - 1 } else { year };
+    let era = if y >= 0 { y } else { y - 399 } / 400;
+    let yoe = y - era * 400;
+    let m = month as i64;
+    let doy = (153 * (if m > 2 { m - 3 } else { m + 9 }) + 2) / 5 + day as i64 - 1;
+    let doe = yoe * 365 + yoe / 4 - yoe / 100 + doy;
+    era * 146_097 + doe - 719_468
+}
+
+/// The civil date (year, month, day) of a day count from 1970-01-01; inverse of [`days_from_civil`].
+pub fn civil_from_days(days: i64) -> (i64, u32, u32) {
+    let z = days + 719_468;
+    let era = if z >= 0 { z } else { z - 146_096 } / 146_097;
+    let doe = z - era * 146_097;
+    let yoe = (doe - doe / 1460 + doe / 36_524 - doe / 146_096) / 365;
+    let y = yoe + era * 400;
+    let doy = doe - (365 * yoe + yoe / 4 - yoe / 100);
+    let mp = (5 * doy + 2) / 153;
+    let d = (doy - (153 * mp + 2) / 5 + 1) as u32;
+    let m = if mp < 10 { mp + 3 } else { mp - 9 } as u32;
+    (if m <= 2 { y + 1 } else { y }, m, d)
+}
+
+fn days_in_month(year: i64, month: u32) -> u32 {
+    match month {
+        1 | 3 | 5 | 7 | 8 | 10 | 12 => 31,
+        4 | 6 | 9 | 11 => 30,
+        _ => {
+            let leap = (year % 4 == 0 && year % 100 != 0) || year % 400 == 0;
+            if leap {
+                29
+            } else {
+                28
+            }
+        }
+    }
+}
+
+struct Cursor<'a> {
+    bytes: &'a [u8],
+    pos: usize,
+}
+
+impl Cursor<'_> {
+    fn digits(&mut self, count: usize) -> Option<u32> {
+        let slice = self.bytes.get(self.pos..self.pos + count)?;
+        let mut value = 0u32;
+        for &b in slice {
+            if !b.is_ascii_digit() {
+                return None;
+            }
+            value = value * 10 + u32::from(b - b'0');
+        }
+        self.pos += count;
+        Some(value)
+    }
+
+    fn eat(&mut self, byte: u8) -> bool {
+        if self.bytes.get(self.pos) == Some(&byte) {
+            self.pos += 1;
+            true
+        } else {
+            false
+        }
+    }
+
+    fn peek(&self) -> Option<u8> {
+        self.bytes.get(self.pos).copied()
+    }
+
+    fn done(&self) -> bool {
+        self.pos >= self.bytes.len()
+    }
+}
+
+/// Parses one timestamp cell; `naive_offset_minutes` applies to times written without an offset.
+pub fn parse_timestamp(text: &str, naive_offset_minutes: i32) -> Result<Micros, TimestampError> {
+    let trimmed = text.trim();
+    if trimmed.is_empty() {
+        return Err(fail(text, "empty"));
+    }
+    let bytes = trimmed.as_bytes();
+    let looks_epoch = bytes
+        .iter()
+        .enumerate()
+        .all(|(i, &b)| b.is_ascii_digit() || b == b'.' || (i == 0 && b == b'-'));
+    if looks_epoch && bytes.get(4) != Some(&b'-') {
+        return parse_epoch(trimmed);
+    }
+    let mut c = Cursor { bytes, pos: 0 };
+    let year = c.digits(4).ok_or_else(|| fail(text, "bad year"))? as i64;
+    if !c.eat(b'-') {
+        return Err(fail(text, "expected `-` after the year"));
+    }
+    let month = c.digits(2).ok_or_else(|| fail(text, "bad month"))?;
+    if !c.eat(b'-') {
+        return Err(fail(text, "expected `-` after the month"));
+    }
+    let day = c.digits(2).ok_or_else(|| fail(text, "bad day"))?;
+    if !(1..=12).contains(&month) {
+        return Err(fail(text, "month out of range"));
+    }
+    if day == 0 || day > days_in_month(year, month) {
+        return Err(fail(text, "day out of range"));
+    }
+    let days = days_from_civil(year, month, day);
+    if c.done() {
+        return Ok(days * 86_400_000_000 - i64::from(naive_offset_minutes) * 60_000_000);
+    }
+    if !(c.eat(b'T') || c.eat(b't') || c.eat(b' ')) {
+        return Err(fail(text, "expected `T` or a space between date and time"));
+    }
+    let hour = c.digits(2).ok_or_else(|| fail(text, "bad hour"))?;
+    if !c.eat(b':') {
+        return Err(fail(text, "expected `:` after the hour"));
+    }
+    let minute = c.digits(2).ok_or_else(|| fail(text, "bad minute"))?;
+    let mut second = 0;
+    let mut micros = 0i64;
+    if c.eat(b':') {
+        second = c.digits(2).ok_or_else(|| fail(text, "bad second"))?;
+        if c.eat(b'.') || c.eat(b',') {
+            let start = c.pos;
+            let mut scale = 100_000i64;
+            let mut rest = 0i64;
+            while let Some(b) = c.peek().filter(u8::is_ascii_digit) {
+                let digit = i64::from(b - b'0');
+                if scale >= 1 {
+                    micros += digit * scale;
+                    scale /= 10;
+                } else if scale == 0 && rest == 0 {
+                    rest = digit;
+                    scale = -1;
+                }
+                c.pos += 1;
+            }
+            if c.pos == start {
+                return Err(fail(text, "no digits after the decimal point"));
+            }
+            if rest >= 5 {
+                micros += 1;
+            }
+        }
+    }
+    if hour > 23 || minute > 59 || second > 60 {
+        return Err(fail(text, "time of day out of range"));
+    }
+    let offset_minutes: i64 = if c.done() {
+        i64::from(naive_offset_minutes)
+    } else if c.eat(b'Z') || c.eat(b'z') {
+        0
+    } else {
+        let sign = if c.eat(b'+') {
+            1
+        } else if c.eat(b'-') {
+            -1
+        } else {
+            return Err(fail(text, "unexpected text after the time"));
+        };
+        let oh = c.digits(2).ok_or_else(|| fail(text, "bad offset hours"))?;
+        c.eat(b':');
+        let om = c
+            .digits(2)
+            .ok_or_else(|| fail(text, "bad offset minutes"))?;
+        if oh > 23 || om > 59 {
+            return Err(fail(text, "offset out of range"));
+        }
+        sign * i64::from(oh * 60 + om)
+    };
+    if !c.done() {
+        return Err(fail(text, "unexpected text after the time"));
+    }
+    let seconds =
+        days * 86_400 + i64::from(hour) * 3600 + i64::from(minute) * 60 + i64::from(second)
+            - offset_minutes * 60;
+    Ok(seconds * 1_000_000 + micros)
+}
+
+fn parse_epoch(text: &str) -> Result<Micros, TimestampError> {
+    let (whole, frac) = match text.split_once('.') {
+        Some((w, f)) => (w, f),
+        None => (text, ""),
+    };
+    if frac.contains('.') || (whole.is_empty() || whole == "-") && frac.is_empty() {
+        return Err(fail(text, "malformed epoch seconds"));
+    }
+    let negative = whole.starts_with('-');
+    let seconds: i64 = if whole.is_empty() || whole == "-" {
+        0
+    } else {
+        whole
+            .parse()
+            .map_err(|_| fail(text, "epoch seconds out of range"))?
+    };
+    if seconds.unsigned_abs() > 100_000_000_000 {
+        return Err(fail(text, "epoch seconds out of range"));
+    }
+    let mut micros = 0i64;
+    let mut scale = 100_000i64;
+    for b in frac.bytes().take(7) {
+        let digit = i64::from(b - b'0');
+        if scale >= 1 {
+            micros += digit * scale;
+            scale /= 10;
+        } else if digit >= 5 {
+            micros += 1;
+        }
+    }
+    let sign = if negative { -1 } else { 1 };
+    Ok(seconds * 1_000_000 + sign * micros)
+}
+
+/// A timestamp written back as RFC 3339 in UTC (`2026-03-01T08:15:00Z`, fraction only when needed).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct Rfc3339(pub Micros);
+
+impl fmt::Display for Rfc3339 {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        let micros = self.0.rem_euclid(1_000_000);
+        let secs = self.0.div_euclid(1_000_000);
+        let days = secs.div_euclid(86_400);
+        let tod = secs.rem_euclid(86_400);
+        let (y, m, d) = civil_from_days(days);
+        write!(
+            f,
+            "{y:04}-{m:02}-{d:02}T{:02}:{:02}:{:02}",
+            tod / 3600,
+            (tod / 60) % 60,
+            tod % 60
+        )?;
+        if micros != 0 {
+            let mut frac = format!("{micros:06}");
+            while frac.ends_with('0') {
+                frac.pop();
+            }
+            write!(f, ".{frac}")?;
+        }
+        write!(f, "Z")
+    }
+}
+
+/// Parses an offset for naive times: `+01:00`, `-05:30`, `Z` or `UTC`; result in minutes east of UTC.
+pub fn parse_offset(text: &str) -> Option<i32> {
+    let t = text.trim();
+    if t.eq_ignore_ascii_case("z") || t.eq_ignore_ascii_case("utc") {
+        return Some(0);
+    }
+    let (sign, rest) = match t.as_bytes().first()? {
+        b'+' => (1, &t[1..]),
+        b'-' => (-1, &t[1..]),
+        _ => return None,
+    };
+    let (h, m) = rest
+        .split_once(':')
+        .unwrap_or((rest.get(..2)?, rest.get(2..)?));
+    let h: i32 = h.parse().ok()?;
+    let m: i32 = m.parse().ok()?;
+    if h > 23 || m > 59 || h < 0 || m < 0 {
+        return None;
+    }
+    Some(sign * (h * 60 + m))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn utc(text: &str) -> Micros {
+        parse_timestamp(text, 0).expect(text)
+    }
+
+    /// The examples of RFC 3339 section 5.8 ("Examples"), with their instants worked out by hand
+    /// from the text of that section.
+    #[test]
+    fn rfc3339_section_5_8_examples() {
+        // "1985-04-12T23:20:50.52Z": 20 minutes and 50.52 seconds after 23:00 UTC, 12 April 1985.
+        assert_eq!(utc("1985-04-12T23:20:50.52Z"), 482_196_050_520_000);
+        // "1996-12-19T16:39:57-08:00" is "equivalent to 1996-12-20T00:39:57Z".
+        assert_eq!(
+            utc("1996-12-19T16:39:57-08:00"),
+            utc("1996-12-20T00:39:57Z")
+        );
+        assert_eq!(utc("1996-12-20T00:39:57Z"), 851_042_397_000_000);
+        // "1990-12-31T23:59:60Z" is the leap second at the end of 1990; "1990-12-31T15:59:60-08:00"
+        // is the same leap second in Pacific Standard Time.
+        assert_eq!(utc("1990-12-31T23:59:60Z"), utc("1991-01-01T00:00:00Z"));
+        assert_eq!(
+            utc("1990-12-31T15:59:60-08:00"),
+            utc("1990-12-31T23:59:60Z")
+        );
+        // "1937-01-01T12:00:27.87+00:20": Netherlands time, 20 minutes ahead of UTC.
+        assert_eq!(
+            utc("1937-01-01T12:00:27.87+00:20"),
+            utc("1937-01-01T11:40:27.87Z")
+        );
+        assert_eq!(utc("1937-01-01T11:40:27.87Z"), -1_041_337_172_130_000);
+    }
+
+    #[test]
+    fn naive_forms_and_epoch_seconds() {
+        let t = utc("2026-03-01T08:15:00Z");
+        assert_eq!(utc("2026-03-01 08:15:00"), t);
+        assert_eq!(utc("2026-03-01t08:15:00z"), t);
+        assert_eq!(utc("2026-03-01T08:15"), t);
+        assert_eq!(parse_timestamp("2026-03-01 09:15:00", 60), Ok(t));
+        assert_eq!(utc("2026-03-01T09:15:00+0100"), t);
+        assert_eq!(utc(&(t / 1_000_000).to_string()), t);
+        assert_eq!(utc("1772352900.5"), utc("2026-03-01T08:15:00.5Z"));
+        assert_eq!(utc("2026-03-01"), utc("2026-03-01T00:00:00Z"));
+    }
+
+    #[test]
+    fn rejects_bad_dates_and_text() {
+        for bad in [
+            "2026-02-30 00:00:00",
+            "2026-13-01 00:00:00",
+            "2026-03-01 24:00:00",
+            "2026-03-01 08:15:00 PM",
+            "01/03/2026 08:15",
+            "Bad",
+            "",
+            "1.2.3",
+            "2026-03-01T08:15:00+25:00",
+        ] {
+            assert!(parse_timestamp(bad, 0).is_err(), "{bad} accepted");
+        }
+    }
+
+    #[test]
+    fn civil_conversions_round_trip() {
+        for days in (-800_000..800_000).step_by(997) {
+            let (y, m, d) = civil_from_days(days);
+            assert_eq!(days_from_civil(y, m, d), days);
+        }
+        assert_eq!(days_from_civil(2000, 3, 1), 11_017);
+    }
+
+    #[test]
+    fn formats_back_to_rfc3339() {
+        assert_eq!(
+            Rfc3339(utc("1985-04-12T23:20:50.52Z")).to_string(),
+            "1985-04-12T23:20:50.52Z"
+        );
+        assert_eq!(
+            Rfc3339(utc("2026-03-01T08:15:00Z")).to_string(),
+            "2026-03-01T08:15:00Z"
+        );
+        assert_eq!(Rfc3339(-1).to_string(), "1969-12-31T23:59:59.999999Z");
+    }
+
+    #[test]
+    fn offsets() {
+        assert_eq!(parse_offset("+01:00"), Some(60));
+        assert_eq!(parse_offset("-0530"), Some(-330));
+        assert_eq!(parse_offset("UTC"), Some(0));
+        assert_eq!(parse_offset("01:00"), None);
+    }
+}
