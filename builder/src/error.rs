@@ -108,7 +108,7 @@ pub enum DataError {
         previous: Rfc3339,
     },
     /// After resampling, nothing is left to work with.
-    #[error("the data span less than one sample-time ({detail})")]
+    #[error("the data span less than two sample-times ({detail}); export a longer period")]
     TooShort {
         /// Detail.
         detail: String,

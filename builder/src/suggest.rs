@@ -12,7 +12,7 @@ pub fn nearest<'a>(
         .map(|c| (strsim::levenshtein(&wanted_lower, &c.to_lowercase()), c))
         .filter(|(d, c)| {
             let longest = wanted.chars().count().max(c.chars().count()).max(1);
-            *d * 5 <= longest * 2 // at most 40 % of the characters differ
+            *d <= 1 || *d * 5 <= longest * 2 // one edit, or at most 40 % of the characters
         })
         .collect();
     scored.sort_by(|a, b| a.0.cmp(&b.0).then_with(|| a.1.cmp(b.1)));

@@ -67,40 +67,96 @@ pub fn mark_frozen(series: &mut GridSeries, resolution: f64, frozen_steps: usize
 /// Consistency constant of the MAD for normally distributed data, 1/Φ⁻¹(3/4).
 pub const MAD_SCALE: f64 = 1.482_602_218_505_602;
 
+#[cfg(test)]
 fn median(buf: &mut [f64]) -> f64 {
-    let n = buf.len();
+    buf.sort_by(f64::total_cmp);
+    sorted_median(buf)
+}
+
+/// Median of an ascending slice (mean of the middle pair for an even count).
+fn sorted_median(sorted: &[f64]) -> f64 {
+    let n = sorted.len();
     let mid = n / 2;
-    let (_, upper, _) = buf.select_nth_unstable_by(mid, f64::total_cmp);
-    let upper = *upper;
     if n % 2 == 1 {
-        upper
+        sorted[mid]
     } else {
-        let lower = buf[..mid].iter().copied().fold(f64::NEG_INFINITY, f64::max);
-        0.5 * (lower + upper)
+        0.5 * (sorted[mid - 1] + sorted[mid])
+    }
+}
+
+/// Median absolute deviation from `m` of an ascending slice, without sorting the deviations.
+///
+/// The deviations form two ascending sequences — `m − x` for values below `m`, walking down, and
+/// `x − m` for the rest, walking up — so the k-th smallest deviation is the k-th smallest of two
+/// sorted sequences, found by binary search on how many come from the lower side.
+fn sorted_mad(sorted: &[f64], m: f64) -> f64 {
+    let n = sorted.len();
+    let split = sorted.partition_point(|v| *v < m);
+    let (na, nb) = (split, n - split);
+    let a = |j: usize| m - sorted[split - 1 - j];
+    let b = |j: usize| sorted[split + j] - m;
+    // k-th smallest deviation, 1-based.
+    let kth = |k: usize| -> f64 {
+        let (mut lo, mut hi) = (k.saturating_sub(nb), k.min(na));
+        while lo < hi {
+            let i = (lo + hi) / 2; // i from the lower side, k - i from the upper side
+            if a(i) >= b(k - i - 1) {
+                hi = i;
+            } else {
+                lo = i + 1;
+            }
+        }
+        let from_a = if lo > 0 { a(lo - 1) } else { f64::NEG_INFINITY };
+        let from_b = if k > lo {
+            b(k - lo - 1)
+        } else {
+            f64::NEG_INFINITY
+        };
+        from_a.max(from_b)
+    };
+    if n % 2 == 1 {
+        kth(n / 2 + 1)
+    } else {
+        0.5 * (kth(n / 2) + kth(n / 2 + 1))
     }
 }
 
 /// Rolling median and robust scale (MAD × 1.4826) of the valid values in a centred window of
 /// `2·half + 1` cells, truncated at the ends; `NaN` where the window has no valid value.
+///
+/// The window is kept sorted as it slides (one insertion and one removal per step), so the cost
+/// per sample is a few dozen comparisons and moves rather than a selection from scratch.
 pub fn hampel_statistics(values: &[f64], half: usize) -> (Vec<f64>, Vec<f64>) {
     let n = values.len();
     let mut medians = vec![f64::NAN; n];
     let mut scales = vec![f64::NAN; n];
-    let mut window = Vec::with_capacity(2 * half + 1);
-    let mut deviations = Vec::with_capacity(2 * half + 1);
+    let mut window: Vec<f64> = Vec::with_capacity(2 * half + 2);
+    let insert = |window: &mut Vec<f64>, v: f64| {
+        if !v.is_nan() {
+            let at = window.partition_point(|w| w.total_cmp(&v).is_lt());
+            window.insert(at, v);
+        }
+    };
+    for &v in values.iter().take(half.min(n)) {
+        insert(&mut window, v);
+    }
     for k in 0..n {
-        let lo = k.saturating_sub(half);
-        let hi = (k + half + 1).min(n);
-        window.clear();
-        window.extend(values[lo..hi].iter().copied().filter(|v| !v.is_nan()));
+        if let Some(&v) = values.get(k + half) {
+            insert(&mut window, v);
+        }
+        if k > half {
+            let gone = values[k - half - 1];
+            if !gone.is_nan() {
+                let at = window.partition_point(|w| w.total_cmp(&gone).is_lt());
+                window.remove(at);
+            }
+        }
         if window.is_empty() {
             continue;
         }
-        let m = median(&mut window);
-        deviations.clear();
-        deviations.extend(window.iter().map(|v| (v - m).abs()));
+        let m = sorted_median(&window);
         medians[k] = m;
-        scales[k] = MAD_SCALE * median(&mut deviations);
+        scales[k] = MAD_SCALE * sorted_mad(&window, m);
     }
     (medians, scales)
 }
@@ -222,6 +278,41 @@ mod tests {
     fn median_of_even_count_averages_the_middle_pair() {
         assert_eq!(median(&mut [4.0, 1.0, 3.0, 2.0]), 2.5);
         assert_eq!(median(&mut [5.0, 1.0, 3.0]), 3.0);
+    }
+
+    /// The sliding statistics equal a from-scratch median and MAD of every window.
+    #[test]
+    fn sliding_window_equals_brute_force() {
+        let mut state = 7u64;
+        let values: Vec<f64> = (0..500)
+            .map(|k| {
+                state = state
+                    .wrapping_mul(6_364_136_223_846_793_005)
+                    .wrapping_add(1);
+                let r = (state >> 33) as f64 / (1u64 << 31) as f64;
+                if k % 37 == 5 {
+                    f64::NAN
+                } else {
+                    ((r * 20.0).round() / 4.0) + if k % 50 == 0 { 30.0 } else { 0.0 }
+                }
+            })
+            .collect();
+        for half in [1, 2, 5, 15] {
+            let (m, s) = hampel_statistics(&values, half);
+            for k in 0..values.len() {
+                let lo = k.saturating_sub(half);
+                let hi = (k + half + 1).min(values.len());
+                let mut w: Vec<f64> = values[lo..hi]
+                    .iter()
+                    .copied()
+                    .filter(|v| !v.is_nan())
+                    .collect();
+                let med = median(&mut w);
+                let mut dev: Vec<f64> = w.iter().map(|v| (v - med).abs()).collect();
+                assert_eq!(m[k], med, "median k={k} half={half}");
+                assert_eq!(s[k], MAD_SCALE * median(&mut dev), "mad k={k} half={half}");
+            }
+        }
     }
 
     #[test]

@@ -20,7 +20,7 @@ use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
 
 /// Seed of every random choice in the demo data.
-pub const SEED: u64 = 2026_03_02;
+pub const SEED: u64 = 20_260_302;
 /// Days simulated.
 pub const DAYS: usize = 21;
 /// First timestamp: 2026-03-02T00:00:00Z in epoch seconds.
@@ -273,8 +273,8 @@ pub fn generate() -> Vec<(String, String)> {
     }
     // Defects. Column indices: 1 FI-3001, 2 FI-3002, 3 FI-3003, 4 PI-3001, 5..=9 TI, 10 AI.
     let day = 1440;
-    for k in (3 * day + 600)..(3 * day + 620) {
-        rows[k][7] = "I/O Timeout".into(); // TI-3112 loses its I/O card for 20 minutes
+    for row in &mut rows[(3 * day + 600)..(3 * day + 620)] {
+        row[7] = "I/O Timeout".into(); // TI-3112 loses its I/O card for 20 minutes
     }
     for i in 0..12 {
         let k = 5 * day + 97 * i + 13;
@@ -292,8 +292,8 @@ pub fn generate() -> Vec<(String, String)> {
         rows[k][5] = format!("{:.2}", v + sign * 9.0); // TI-3104 single-sample spikes
     }
     for d in 1..DAYS {
-        for k in (d * day + 360)..(d * day + 380) {
-            rows[k][10] = "Calibrating".into(); // analyzer daily validation run
+        for row in &mut rows[(d * day + 360)..(d * day + 380)] {
+            row[10] = "Calibrating".into(); // analyzer daily validation run
         }
     }
     // A historian outage of 3 hours on day 9: rows missing from the export.

@@ -1,0 +1,72 @@
+//! Helpers shared by the builder's integration tests.
+#![allow(dead_code)]
+
+use std::path::{Path, PathBuf};
+use std::process::{Command, Output};
+
+/// Minutes since 2026-03-02T00:00:00Z as `YYYY-MM-DD HH:MM:SS`.
+pub fn stamp(minute: usize) -> String {
+    let day = 2 + minute / 1440;
+    let m = minute % 1440;
+    format!("2026-03-{day:02} {:02}:{:02}:00", m / 60, m % 60)
+}
+
+/// A small deterministic pseudo-random sequence in [-1, 1) (a linear congruential generator;
+/// test data only).
+pub struct Lcg(pub u64);
+
+impl Lcg {
+    /// Next value in [-1, 1).
+    pub fn next(&mut self) -> f64 {
+        self.0 = self
+            .0
+            .wrapping_mul(6_364_136_223_846_793_005)
+            .wrapping_add(1_442_695_040_888_963_407);
+        ((self.0 >> 11) as f64 / (1u64 << 53) as f64) * 2.0 - 1.0
+    }
+}
+
+/// Writes `text` to `dir/name`, returning the path.
+pub fn write(dir: &Path, name: &str, text: &str) -> PathBuf {
+    let path = dir.join(name);
+    std::fs::write(&path, text).expect("write test file");
+    path
+}
+
+/// Runs the `regimix` binary with `args` in `dir`.
+pub fn regimix(dir: &Path, args: &[&str]) -> Output {
+    Command::new(env!("CARGO_BIN_EXE_regimix"))
+        .args(args)
+        .current_dir(dir)
+        .env("RUST_BACKTRACE", "1")
+        .output()
+        .expect("run regimix")
+}
+
+/// Asserts a failed run: exit code 2, one line on stderr containing `needle`, no panic text.
+pub fn assert_clean_failure(out: &Output, needle: &str) {
+    let stderr = String::from_utf8_lossy(&out.stderr);
+    assert_eq!(out.status.code(), Some(2), "stderr: {stderr}");
+    assert!(stderr.contains(needle), "expected `{needle}` in: {stderr}");
+    assert!(
+        !stderr.contains("panicked")
+            && !stderr.contains("Backtrace")
+            && !stderr.contains("stack backtrace"),
+        "{stderr}"
+    );
+    assert_eq!(
+        stderr.trim_end().lines().count(),
+        1,
+        "one message expected: {stderr}"
+    );
+}
+
+/// Lists the files in `dir`, sorted.
+pub fn listing(dir: &Path) -> Vec<String> {
+    let mut names: Vec<String> = std::fs::read_dir(dir)
+        .expect("read dir")
+        .map(|e| e.expect("entry").file_name().to_string_lossy().into_owned())
+        .collect();
+    names.sort();
+    names
+}

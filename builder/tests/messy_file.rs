@@ -1,0 +1,150 @@
+//! A historian export with every defect `check` must find — quality markers, a frozen stretch, a
+//! gap, a spike, duplicated timestamps — and the exact findings expected.
+
+mod common;
+
+use common::{regimix, stamp, write, Lcg};
+use regimix_builder::config::Config;
+use regimix_builder::prepare::prepare;
+
+const CONFIG: &str = "
+data:
+  files: [messy.csv]
+  timestamp: time
+sample-time: 1min
+hold-limit: 3min
+screening:
+  frozen-after: 1h
+target:
+  tag: AI-1
+  unit: '%'
+  source: analyzer
+inputs:
+  - { tag: TI-A, unit: degC, range: [0, 200] }
+  - { tag: TI-B, unit: degC }
+";
+
+/// Row layout: 300 minutes; rows 250..270 missing (a 21-minute gap between 249 and 270).
+fn messy_csv() -> String {
+    let mut rng = Lcg(42);
+    let mut out = String::from("time,TI-A,TI-B,AI-1\n");
+    for k in 0..300usize {
+        if (250..270).contains(&k) {
+            continue;
+        }
+        let mut a = format!(
+            "{:.4}",
+            100.0 + 5.0 * (k as f64 / 100.0).sin() + 0.05 * rng.next()
+        );
+        let b_value = 80.0 + 0.1 * rng.next();
+        let b = if (150..230).contains(&k) {
+            "81.2345".to_string()
+        } else {
+            format!("{b_value:.4}")
+        };
+        let y = format!("{:.4}", 1.0 + 0.01 * rng.next());
+        if (50..55).contains(&k) {
+            a = "Bad".into();
+        }
+        if k == 80 {
+            a = "I/O Timeout".into();
+        }
+        if k == 81 {
+            a = String::new();
+        }
+        if k == 120 {
+            a = "150.0".into(); // a spike
+        }
+        if k == 200 {
+            a = "250".into(); // outside the range [0, 200]
+        }
+        let line = format!("{},{a},{b},{y}\n", stamp(k));
+        out.push_str(&line);
+        if k == 10 || k == 11 {
+            out.push_str(&line); // duplicated rows
+        }
+    }
+    out
+}
+
+#[test]
+fn check_reports_each_defect_exactly() {
+    let dir = tempfile::tempdir().expect("tempdir");
+    write(dir.path(), "messy.csv", &messy_csv());
+    let cfg = write(dir.path(), "c.yaml", CONFIG);
+    let prepared = prepare(&Config::load(&cfg).expect("config")).expect("prepare");
+    let audit = &prepared.audit;
+
+    assert_eq!(audit.duplicate_rows, 2);
+    assert_eq!(audit.first, "2026-03-02T00:00:00Z");
+    assert_eq!(audit.last, "2026-03-02T04:59:00Z");
+    assert_eq!(audit.grid_samples, 300);
+    let gap = audit.widest_gap.as_ref().expect("gap");
+    assert_eq!(
+        (gap.start.as_str(), gap.duration.as_str()),
+        ("2026-03-02T04:09:00Z", "21min")
+    );
+    assert_eq!(audit.median_interval.as_deref(), Some("1min"));
+
+    let a = &audit.tags[0];
+    assert_eq!(a.tag, "TI-A");
+    assert_eq!(a.markers.get("Bad"), Some(&5));
+    assert_eq!(a.markers.get("I/O Timeout"), Some(&1));
+    assert_eq!(a.markers.len(), 2);
+    assert_eq!(a.spikes, 1);
+    assert_eq!(a.out_of_range, 1);
+    assert_eq!(
+        a.observations, 279,
+        "282 rows less the empty cell and two collapsed duplicates"
+    );
+    assert!(a.frozen.is_empty());
+    // Invalid grid cells: 5 Bad + 2 (I/O Timeout, then the blank that does not renew it) + 1 spike
+    // + 1 out of range + 17 gap cells beyond the 3-minute hold (253..=269).
+    let dataset = &prepared.dataset;
+    let valid_a = (0..300)
+        .filter(|&k| dataset.input_status[[k, 0]] == regimix_builder::prepare::CellStatus::Valid)
+        .count();
+    assert_eq!(valid_a, 300 - 5 - 2 - 1 - 1 - 17);
+
+    let b = &audit.tags[1];
+    assert_eq!(b.frozen.len(), 1);
+    assert_eq!(b.frozen[0].start, "2026-03-02T02:30:00Z");
+    assert_eq!(b.frozen[0].samples, 80);
+    assert_eq!(b.spikes, 0);
+    assert!(b.markers.is_empty());
+
+    assert!(audit
+        .warnings
+        .iter()
+        .any(|w| w.contains("no rows at all for 21min")));
+    assert!(audit
+        .warnings
+        .iter()
+        .any(|w| w.contains("TI-B: frozen for 80min")));
+}
+
+#[test]
+fn check_json_carries_the_same_findings() {
+    let dir = tempfile::tempdir().expect("tempdir");
+    write(dir.path(), "messy.csv", &messy_csv());
+    write(dir.path(), "c.yaml", CONFIG);
+    let out = regimix(dir.path(), &["check", "c.yaml", "--json"]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let json: serde_json::Value = serde_json::from_slice(&out.stdout).expect("valid JSON");
+    assert_eq!(json["duplicate_rows"], 2);
+    assert_eq!(json["tags"][0]["markers"]["Bad"], 5);
+    assert_eq!(json["tags"][0]["spikes"], 1);
+    assert_eq!(json["tags"][1]["frozen"][0]["samples"], 80);
+    assert_eq!(json["widest_gap"]["duration"], "21min");
+    let text = regimix(dir.path(), &["check", "c.yaml"]);
+    let text = String::from_utf8_lossy(&text.stdout);
+    assert!(text.contains("\"I/O Timeout\" ×1"), "{text}");
+    assert!(
+        text.contains("TI-B             from 2026-03-02T02:30:00Z for 80min (80 samples)"),
+        "{text}"
+    );
+}
