@@ -11,5 +11,6 @@ pub mod config;
 pub mod duration;
 pub mod error;
 pub mod prepare;
+pub mod regimes;
 pub mod suggest;
 pub mod timestamp;
