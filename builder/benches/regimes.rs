@@ -14,8 +14,12 @@ use regimix_builder::regimes::{data_scale, fuzzy_c_means, gk_step, GkState, Regi
 /// Seeded mixture of `c` anisotropic Gaussian clusters in `d` dimensions, column-major.
 pub fn mixture(n: usize, d: usize, c: usize, seed: u64) -> Columns {
     let mut rng = ChaCha8Rng::seed_from_u64(seed);
-    let centers: Vec<Vec<f64>> = (0..c).map(|_| (0..d).map(|_| rng.gen_range(-5.0..5.0)).collect()).collect();
-    let scales: Vec<Vec<f64>> = (0..c).map(|_| (0..d).map(|_| rng.gen_range(0.2..1.5)).collect()).collect();
+    let centers: Vec<Vec<f64>> = (0..c)
+        .map(|_| (0..d).map(|_| rng.gen_range(-5.0..5.0)).collect())
+        .collect();
+    let scales: Vec<Vec<f64>> = (0..c)
+        .map(|_| (0..d).map(|_| rng.gen_range(0.2..1.5)).collect())
+        .collect();
     let mut rows = Vec::with_capacity(n * d);
     for k in 0..n {
         let i = k % c;
@@ -51,13 +55,16 @@ fn gk_iteration(crit: &mut Criterion) {
             memberships: fcm.memberships,
         };
         group.throughput(Throughput::Elements(n as u64));
-        group.bench_function(BenchmarkId::from_parameter(format!("N={n} d={d} c={c}")), |b| {
-            b.iter_batched_ref(
-                || start.clone(),
-                |state| gk_step(&data, state, &params, scale).expect("step"),
-                criterion::BatchSize::LargeInput,
-            )
-        });
+        group.bench_function(
+            BenchmarkId::from_parameter(format!("N={n} d={d} c={c}")),
+            |b| {
+                b.iter_batched_ref(
+                    || start.clone(),
+                    |state| gk_step(&data, state, &params, scale).expect("step"),
+                    criterion::BatchSize::LargeInput,
+                )
+            },
+        );
     }
     group.finish();
 }

@@ -41,9 +41,10 @@ fn fuzzy_c_means_matches_scikit_fuzzy() {
         let c = case["c"].as_u64().expect("c") as usize;
         let m = case["m"].as_f64().expect("m");
         let data = columns(&matrix(&case["data"]));
-        let u0: Vec<f64> = matrix(&case["initial_memberships"])
-            .into_iter()
-            .flatten()
+        // The fixture is point-major; the engine takes regime-major memberships.
+        let u0_rows = matrix(&case["initial_memberships"]);
+        let u0: Vec<f64> = (0..c)
+            .flat_map(|i| u0_rows.iter().map(move |r| r[i]))
             .collect();
         let p = fuzzy_c_means(&data, c, m, Start::Memberships(u0), 1e-12, 20_000);
         assert!(p.converged, "{name}");
@@ -52,9 +53,14 @@ fn fuzzy_c_means_matches_scikit_fuzzy() {
                 assert!((a - b).abs() < 1e-6, "{name} center {i}: {a} vs {b}");
             }
         }
-        let expected_u: Vec<f64> = matrix(&case["memberships"]).into_iter().flatten().collect();
-        for (k, (a, b)) in p.memberships.iter().zip(&expected_u).enumerate() {
-            assert!((a - b).abs() < 1e-6, "{name} membership {k}: {a} vs {b}");
+        for (k, expected) in matrix(&case["memberships"]).iter().enumerate() {
+            for (i, b) in expected.iter().enumerate() {
+                let a = p.membership(k, i);
+                assert!(
+                    (a - b).abs() < 1e-6,
+                    "{name} membership {k},{i}: {a} vs {b}"
+                );
+            }
         }
         let (pc, _) = coefficient_and_entropy(&p.memberships, c);
         let fpc = case["partition_coefficient"].as_f64().expect("fpc");

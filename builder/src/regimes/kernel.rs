@@ -15,8 +15,6 @@ use rayon::prelude::*;
 
 /// Rows per parallel chunk (fixed, so results do not depend on the thread count).
 const CHUNK: usize = 8192;
-/// Rows per cache block inside a chunk.
-const BLOCK: usize = 256;
 /// Distances below this count as zero (a point on a center takes that regime fully).
 pub const MIN_DISTANCE2: f64 = 1e-250;
 
@@ -151,58 +149,19 @@ pub struct PassResult {
     pub max_change: f64,
 }
 
-/// `dot` with eight independent accumulators (vectorizes; fixed order, so deterministic).
-#[inline]
-fn dot(a: &[f64], b: &[f64]) -> f64 {
-    let mut acc = [0.0f64; 8];
-    let chunks = a.len() / 8;
-    for c in 0..chunks {
-        for lane in 0..8 {
-            acc[lane] += a[c * 8 + lane] * b[c * 8 + lane];
-        }
-    }
-    let mut total =
-        ((acc[0] + acc[1]) + (acc[2] + acc[3])) + ((acc[4] + acc[5]) + (acc[6] + acc[7]));
-    for i in chunks * 8..a.len() {
-        total += a[i] * b[i];
-    }
-    total
-}
+/// Eight rows of one variable: the unit the inner loops work on (maps onto SIMD registers).
+type Lanes = [f64; 8];
 
-#[inline]
-fn sum(a: &[f64]) -> f64 {
-    let mut acc = [0.0f64; 8];
-    let chunks = a.len() / 8;
-    for c in 0..chunks {
-        for lane in 0..8 {
-            acc[lane] += a[c * 8 + lane];
-        }
-    }
-    let mut total =
-        ((acc[0] + acc[1]) + (acc[2] + acc[3])) + ((acc[4] + acc[5]) + (acc[6] + acc[7]));
-    for v in &a[chunks * 8..] {
-        total += v;
-    }
-    total
-}
-
-/// Scratch space for one block.
-struct Scratch {
-    diff: Vec<f64>,  // dim × BLOCK
-    y: Vec<f64>,     // BLOCK
-    d2: Vec<f64>,    // c × BLOCK
-    u: Vec<f64>,     // c × BLOCK
-    w: Vec<f64>,     // BLOCK
-    we: Vec<f64>,    // dim × BLOCK
-    e: Vec<f64>,     // dim × BLOCK
-    dmin: Vec<f64>,  // BLOCK
-    total: Vec<f64>, // BLOCK
+#[inline(always)]
+fn reduce(acc: &Lanes) -> f64 {
+    ((acc[0] + acc[1]) + (acc[2] + acc[3])) + ((acc[4] + acc[5]) + (acc[6] + acc[7]))
 }
 
 /// Memberships from distances (`d2`, regime-major `c × b`) into `u`, for fuzziness `m`:
 /// `μ_i = t_i / Σ_j t_j` with `t_i = (d²_min / d²_i)^(1/(m−1))`, which equals the textbook
 /// `1 / Σ_j (d²_i / d²_j)^(1/(m−1))` but cannot overflow. Distances below [`MIN_DISTANCE2`] count
 /// as that value, so a point on one center belongs to it and ties share equally.
+#[inline(never)]
 pub fn memberships(
     d2: &[f64],
     u: &mut [f64],
@@ -244,8 +203,298 @@ pub fn memberships(
     }
 }
 
-/// One pass. `u` holds memberships point-major (`len × c`); with `update` it is overwritten with
+/// Largest number of clustering variables the pass supports.
+pub const MAX_DIMENSIONS: usize = 32;
+
+/// What one chunk contributes.
+struct Partial {
+    sums: Vec<Sums>,
+    objective: f64,
+    max_change: f64,
+}
+
+/// Read-only inputs of a pass.
+struct PassInput<'a> {
+    data: &'a Columns,
+    norms: &'a [Norm],
+    m: f64,
+    references: &'a [Vec<f64>],
+    update: bool,
+}
+
+/// `acc += a · b` lane-wise as a fused multiply-add: one instruction where the CPU has FMA, and
+/// correctly rounded everywhere (software `fma` otherwise), so every CPU gets the same bits.
+#[inline(always)]
+fn lanes_fma(acc: &mut Lanes, a: &Lanes, b: &Lanes) {
+    for k in 0..8 {
+        acc[k] = a[k].mul_add(b[k], acc[k]);
+    }
+}
+
+#[inline(always)]
+fn lanes_add(acc: &mut Lanes, a: &Lanes) {
+    for k in 0..8 {
+        acc[k] += a[k];
+    }
+}
+
+#[inline(always)]
+fn lanes_minus(out: &mut Lanes, a: &Lanes, v: f64) {
+    for k in 0..8 {
+        out[k] = a[k] - v;
+    }
+}
+
+#[inline(always)]
+fn lanes_mul(out: &mut Lanes, a: &Lanes, b: &Lanes) {
+    for k in 0..8 {
+        out[k] = a[k] * b[k];
+    }
+}
+
+/// `μ^m` lane-wise (a plain square for the usual m = 2).
+#[inline(always)]
+fn lanes_weight(u: &Lanes, m: f64) -> Lanes {
+    let mut w = [0.0; 8];
+    if m == 2.0 {
+        lanes_mul(&mut w, u, u);
+    } else {
+        for k in 0..8 {
+            w[k] = u[k].powf(m);
+        }
+    }
+    w
+}
+
+/// One chunk of rows, in groups of eight. `D` is the dimension when `D <= 16` (loops then unroll
+/// and the per-group vectors stay in registers); the `D = 32` instance serves any dimension up
+/// to [`MAX_DIMENSIONS`] with runtime loop bounds. Lanes past the data carry zero weight.
+#[inline(always)]
+fn chunk_kernel<const D: usize>(
+    input: &PassInput<'_>,
+    start: usize,
+    u_chunk: &mut [&mut [f64]],
+) -> Partial {
+    let data = input.data;
+    let m = input.m;
+    let d = if D <= 16 { D } else { data.dim };
+    let n = data.len;
+    let c = input.references.len();
+    let rows = u_chunk.first().map_or(0, |r| r.len());
+    // Per-regime parameters in fixed-size arrays: no bounds checks in the loops below.
+    let to_array = |v: &[f64]| -> [f64; D] {
+        let mut a = [0.0; D];
+        a[..d].copy_from_slice(&v[..d]);
+        a
+    };
+    let centers: Vec<[f64; D]> = input.norms.iter().map(|nm| to_array(&nm.center)).collect();
+    let factors: Vec<[[f64; D]; D]> = input
+        .norms
+        .iter()
+        .map(|nm| {
+            let mut f = [[0.0; D]; D];
+            for j in 0..d {
+                f[j][..=j].copy_from_slice(&nm.factor[j * d..j * d + j + 1]);
+            }
+            f
+        })
+        .collect();
+    let references: Vec<[f64; D]> = input.references.iter().map(|r| to_array(r)).collect();
+    let mut acc_w = vec![[0.0f64; 8]; c];
+    let mut acc1 = vec![[[0.0f64; 8]; D]; c];
+    let mut acc2 = vec![[[[0.0f64; 8]; D]; D]; c];
+    let mut objective = [0.0f64; 8];
+    let mut max_change = [0.0f64; 8];
+    let mut d2 = vec![[0.0f64; 8]; c];
+    let mut us = vec![[0.0f64; 8]; c];
+    let mut g0 = 0;
+    while g0 < rows {
+        let valid = 8.min(rows - g0);
+        let k0 = start + g0;
+        let mut z = [[0.0f64; 8]; D];
+        for (j, zj) in z.iter_mut().enumerate().take(d) {
+            let column = &data.values[j * n + k0..j * n + k0 + valid];
+            match <&[f64; 8]>::try_from(column) {
+                Ok(full) => *zj = *full,
+                Err(_) => zj[..valid].copy_from_slice(column),
+            }
+        }
+        if input.update {
+            for ((di, center), factor) in d2.iter_mut().zip(&centers).zip(&factors) {
+                let mut diff = [[0.0f64; 8]; D];
+                for j in 0..d {
+                    lanes_minus(&mut diff[j], &z[j], center[j]);
+                }
+                let mut total = [0.0f64; 8];
+                for j in 0..d {
+                    let mut y = [0.0f64; 8];
+                    // `0..j + 1`, not `0..=j`: inclusive ranges defeat unrolling here.
+                    for l in 0..j + 1 {
+                        let f = [factor[j][l]; 8];
+                        lanes_fma(&mut y, &f, &diff[l]);
+                    }
+                    lanes_fma(&mut total, &y, &y);
+                }
+                *di = total;
+            }
+            lane_memberships(&d2, &mut us, m);
+            for ((stored, ui), di) in u_chunk.iter_mut().zip(us.iter_mut()).zip(&d2) {
+                let mut old = *ui; // padded lanes: no change
+                match <&mut [f64; 8]>::try_from(&mut stored[g0..g0 + valid]) {
+                    Ok(slot) => {
+                        old = *slot;
+                        *slot = *ui;
+                    }
+                    Err(_) => {
+                        old[..valid].copy_from_slice(&stored[g0..g0 + valid]);
+                        stored[g0..g0 + valid].copy_from_slice(&ui[..valid]);
+                        ui[valid..].fill(0.0); // padded rows weigh nothing
+                        old[valid..].fill(0.0);
+                    }
+                }
+                for k in 0..8 {
+                    max_change[k] = max_change[k].max((ui[k] - old[k]).abs());
+                }
+                lanes_fma(&mut objective, &lanes_weight(ui, m), di);
+            }
+        } else {
+            for (stored, ui) in u_chunk.iter().zip(us.iter_mut()) {
+                *ui = [0.0; 8];
+                ui[..valid].copy_from_slice(&stored[g0..g0 + valid]);
+            }
+        }
+        for ((ui, r), ((aw, a1), a2)) in us
+            .iter()
+            .zip(&references)
+            .zip(acc_w.iter_mut().zip(acc1.iter_mut()).zip(acc2.iter_mut()))
+        {
+            let w = lanes_weight(ui, m);
+            lanes_add(aw, &w);
+            let mut e = [[0.0f64; 8]; D];
+            let mut we = [[0.0f64; 8]; D];
+            for j in 0..d {
+                lanes_minus(&mut e[j], &z[j], r[j]);
+                lanes_mul(&mut we[j], &w, &e[j]);
+                lanes_add(&mut a1[j], &we[j]);
+            }
+            for j in 0..d {
+                let row = &mut a2[j];
+                for l in 0..j + 1 {
+                    lanes_fma(&mut row[l], &we[j], &e[l]);
+                }
+            }
+        }
+        g0 += 8;
+    }
+    let sums = (0..c)
+        .map(|i| {
+            let mut second = vec![0.0; d * d];
+            for j in 0..d {
+                for l in 0..=j {
+                    second[j * d + l] = reduce(&acc2[i][j][l]);
+                }
+            }
+            Sums {
+                weight: reduce(&acc_w[i]),
+                first: (0..d).map(|j| reduce(&acc1[i][j])).collect(),
+                second,
+            }
+        })
+        .collect();
+    Partial {
+        sums,
+        objective: reduce(&objective),
+        max_change: max_change.iter().copied().fold(0.0, f64::max),
+    }
+}
+
+/// Memberships of eight rows from their distances to every regime (see [`memberships`]).
+#[inline(always)]
+fn lane_memberships(d2: &[Lanes], u: &mut [Lanes], m: f64) {
+    let mut dmin = [f64::INFINITY; 8];
+    for di in d2 {
+        for k in 0..8 {
+            dmin[k] = dmin[k].min(di[k].max(MIN_DISTANCE2));
+        }
+    }
+    let mut total = [0.0f64; 8];
+    for (ui, di) in u.iter_mut().zip(d2) {
+        for k in 0..8 {
+            ui[k] = dmin[k] / di[k].max(MIN_DISTANCE2);
+        }
+        if m != 2.0 {
+            let exponent = 1.0 / (m - 1.0);
+            for k in 0..8 {
+                ui[k] = ui[k].powf(exponent);
+            }
+        }
+        lanes_add(&mut total, ui);
+    }
+    for ui in u.iter_mut() {
+        for k in 0..8 {
+            ui[k] /= total[k];
+        }
+    }
+}
+
+/// Runs [`chunk_kernel`] with the dimension as a compile-time constant where possible.
+#[inline(always)]
+fn chunk_dispatch(input: &PassInput<'_>, start: usize, u_chunk: &mut [&mut [f64]]) -> Partial {
+    match input.data.dim {
+        1 => chunk_kernel::<1>(input, start, u_chunk),
+        2 => chunk_kernel::<2>(input, start, u_chunk),
+        3 => chunk_kernel::<3>(input, start, u_chunk),
+        4 => chunk_kernel::<4>(input, start, u_chunk),
+        5 => chunk_kernel::<5>(input, start, u_chunk),
+        6 => chunk_kernel::<6>(input, start, u_chunk),
+        7 => chunk_kernel::<7>(input, start, u_chunk),
+        8 => chunk_kernel::<8>(input, start, u_chunk),
+        9 => chunk_kernel::<9>(input, start, u_chunk),
+        10 => chunk_kernel::<10>(input, start, u_chunk),
+        11 => chunk_kernel::<11>(input, start, u_chunk),
+        12 => chunk_kernel::<12>(input, start, u_chunk),
+        _ => chunk_kernel::<32>(input, start, u_chunk),
+    }
+}
+
+/// [`chunk_dispatch`] compiled for the widest vector instructions this CPU has (AVX-512, or AVX2
+/// with FMA, or the baseline). The arithmetic and its order are the same in every version (Rust
+/// never fuses a multiply and an add on its own), so results are bit-identical on every CPU.
+#[allow(unsafe_code)]
+fn run_chunk(input: &PassInput<'_>, start: usize, u_chunk: &mut [&mut [f64]]) -> Partial {
+    #[cfg(target_arch = "x86_64")]
+    {
+        if std::arch::is_x86_feature_detected!("avx512f")
+            && std::arch::is_x86_feature_detected!("avx512vl")
+            && std::arch::is_x86_feature_detected!("avx512dq")
+        {
+            // SAFETY: the CPU supports every feature `chunk_avx512` is compiled for (checked above).
+            return unsafe { chunk_avx512(input, start, u_chunk) };
+        }
+        if std::arch::is_x86_feature_detected!("avx2") && std::arch::is_x86_feature_detected!("fma")
+        {
+            // SAFETY: the CPU supports AVX2 and FMA (checked above).
+            return unsafe { chunk_avx2(input, start, u_chunk) };
+        }
+    }
+    chunk_dispatch(input, start, u_chunk)
+}
+
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx512f,avx512vl,avx512dq,avx2,fma")]
+fn chunk_avx512(input: &PassInput<'_>, start: usize, u_chunk: &mut [&mut [f64]]) -> Partial {
+    chunk_dispatch(input, start, u_chunk)
+}
+
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx2,fma")]
+fn chunk_avx2(input: &PassInput<'_>, start: usize, u_chunk: &mut [&mut [f64]]) -> Partial {
+    chunk_dispatch(input, start, u_chunk)
+}
+
+/// One pass. `u` holds memberships regime-major (`c × len`); with `update` it is overwritten with
 /// the memberships under `norms`, otherwise it is only read. Sums are taken around `references`.
+/// The data may have at most [`MAX_DIMENSIONS`] variables.
 pub fn pass(
     data: &Columns,
     norms: &[Norm],
@@ -257,124 +506,37 @@ pub fn pass(
     let c = references.len();
     let d = data.dim;
     let n = data.len;
-    let partials: Vec<(Vec<Sums>, f64, f64)> = u
-        .par_chunks_mut(CHUNK * c)
+    let input = PassInput {
+        data,
+        norms,
+        m,
+        references,
+        update,
+    };
+    // Cut every regime's row of memberships into the same fixed chunks of rows, then hand each
+    // chunk (one slice per regime) to a worker.
+    let mut chunks: Vec<Vec<&mut [f64]>> = (0..n.div_ceil(CHUNK))
+        .map(|_| Vec::with_capacity(c))
+        .collect();
+    for regime_row in u.chunks_mut(n.max(1)).take(c) {
+        for (chunk, piece) in chunks.iter_mut().zip(regime_row.chunks_mut(CHUNK)) {
+            chunk.push(piece);
+        }
+    }
+    let partials: Vec<Partial> = chunks
+        .into_par_iter()
         .enumerate()
-        .map(|(chunk, u_chunk)| {
-            let start = chunk * CHUNK;
-            let rows = u_chunk.len() / c.max(1);
-            let mut sums: Vec<Sums> = (0..c).map(|_| Sums::zero(d)).collect();
-            let mut objective = 0.0;
-            let mut max_change = 0.0f64;
-            let mut s = Scratch {
-                diff: vec![0.0; d * BLOCK],
-                y: vec![0.0; BLOCK],
-                d2: vec![0.0; c * BLOCK],
-                u: vec![0.0; c * BLOCK],
-                w: vec![0.0; BLOCK],
-                we: vec![0.0; d * BLOCK],
-                e: vec![0.0; d * BLOCK],
-                dmin: vec![0.0; BLOCK],
-                total: vec![0.0; BLOCK],
-            };
-            let mut b0 = 0;
-            while b0 < rows {
-                let b = BLOCK.min(rows - b0);
-                let k0 = start + b0;
-                if update {
-                    for (i, norm) in norms.iter().enumerate() {
-                        for j in 0..d {
-                            let z = &data.values[j * n + k0..j * n + k0 + b];
-                            let v = norm.center[j];
-                            for (out, zk) in s.diff[j * BLOCK..j * BLOCK + b].iter_mut().zip(z) {
-                                *out = zk - v;
-                            }
-                        }
-                        let d2 = &mut s.d2[i * b..(i + 1) * b];
-                        d2.fill(0.0);
-                        for j in 0..d {
-                            let y = &mut s.y[..b];
-                            y.fill(0.0);
-                            for l in 0..=j {
-                                let f = norm.factor[j * d + l];
-                                if f == 0.0 {
-                                    continue;
-                                }
-                                for (yk, dk) in y.iter_mut().zip(&s.diff[l * BLOCK..l * BLOCK + b])
-                                {
-                                    *yk += f * dk;
-                                }
-                            }
-                            for (acc, yk) in d2.iter_mut().zip(y.iter()) {
-                                *acc += yk * yk;
-                            }
-                        }
-                    }
-                    memberships(&s.d2, &mut s.u, c, b, m, &mut s.dmin, &mut s.total);
-                    for i in 0..c {
-                        for k in 0..b {
-                            let row = b0 + k;
-                            let new = s.u[i * b + k];
-                            let old = u_chunk[row * c + i];
-                            max_change = max_change.max((new - old).abs());
-                            u_chunk[row * c + i] = new;
-                        }
-                        // Objective with the new memberships: Σ μ^m d².
-                        let ui = &s.u[i * b..(i + 1) * b];
-                        let wi = &mut s.w[..b];
-                        for (wk, uk) in wi.iter_mut().zip(ui) {
-                            *wk = if m == 2.0 { uk * uk } else { uk.powf(m) };
-                        }
-                        objective += dot(wi, &s.d2[i * b..(i + 1) * b]);
-                    }
-                } else {
-                    for i in 0..c {
-                        for k in 0..b {
-                            s.u[i * b + k] = u_chunk[(b0 + k) * c + i];
-                        }
-                    }
-                }
-                for (i, sum_i) in sums.iter_mut().enumerate() {
-                    let ui = &s.u[i * b..(i + 1) * b];
-                    let wi = &mut s.w[..b];
-                    for (wk, uk) in wi.iter_mut().zip(ui) {
-                        *wk = if m == 2.0 { uk * uk } else { uk.powf(m) };
-                    }
-                    let r = &references[i];
-                    for j in 0..d {
-                        let z = &data.values[j * n + k0..j * n + k0 + b];
-                        let e = &mut s.e[j * BLOCK..j * BLOCK + b];
-                        for (ek, zk) in e.iter_mut().zip(z) {
-                            *ek = zk - r[j];
-                        }
-                        let we = &mut s.we[j * BLOCK..j * BLOCK + b];
-                        for ((o, ek), wk) in we.iter_mut().zip(e.iter()).zip(wi.iter()) {
-                            *o = wk * ek;
-                        }
-                    }
-                    sum_i.weight += sum(wi);
-                    for j in 0..d {
-                        let we_j = &s.we[j * BLOCK..j * BLOCK + b];
-                        sum_i.first[j] += sum(we_j);
-                        for l in 0..=j {
-                            sum_i.second[j * d + l] += dot(we_j, &s.e[l * BLOCK..l * BLOCK + b]);
-                        }
-                    }
-                }
-                b0 += b;
-            }
-            (sums, objective, max_change)
-        })
+        .map(|(chunk, mut u_chunk)| run_chunk(&input, chunk * CHUNK, &mut u_chunk))
         .collect();
     let mut total: Vec<Sums> = (0..c).map(|_| Sums::zero(d)).collect();
     let mut objective = 0.0;
     let mut max_change = 0.0f64;
-    for (sums, obj, change) in &partials {
-        for (t, s) in total.iter_mut().zip(sums) {
+    for partial in &partials {
+        for (t, s) in total.iter_mut().zip(&partial.sums) {
             t.add(s);
         }
-        objective += obj;
-        max_change = max_change.max(*change);
+        objective += partial.objective;
+        max_change = max_change.max(partial.max_change);
     }
     PassResult {
         sums: total,
@@ -441,5 +603,47 @@ mod tests {
             pool.install(|| pass(&data, &norms, 2.0, &mut u, &refs, true))
         };
         assert_eq!(run(1), run(3));
+    }
+}
+
+#[cfg(test)]
+mod pass_checks {
+    use super::*;
+
+    /// The pass's weighted moments equal a direct computation, for row counts that do and do not
+    /// fill whole groups of eight, in several dimensions.
+    #[test]
+    fn moments_match_direct_sums() {
+        for (n, d) in [(150usize, 4usize), (37, 3), (16, 8), (1003, 13)] {
+            let rows: Vec<f64> = (0..n * d)
+                .map(|i| ((i * 7919 + 13) % 101) as f64 / 10.0)
+                .collect();
+            let data = Columns::from_rows(&rows, d);
+            let c = 2;
+            let mut u: Vec<f64> = (0..c * n)
+                .map(|i| {
+                    if i < n {
+                        (i % 5) as f64 / 5.0
+                    } else {
+                        1.0 - ((i - n) % 5) as f64 / 5.0
+                    }
+                })
+                .collect();
+            let refs = vec![vec![0.5; d], vec![-0.5; d]];
+            let r = pass(&data, &[], 2.0, &mut u, &refs, false);
+            for i in 0..c {
+                let (mean, _) = r.sums[i].mean_and_covariance(&refs[i]);
+                let w: Vec<f64> = (0..n).map(|k| u[i * n + k].powi(2)).collect();
+                let total: f64 = w.iter().sum();
+                for j in 0..d {
+                    let direct: f64 = (0..n).map(|k| w[k] * rows[k * d + j]).sum::<f64>() / total;
+                    assert!(
+                        (mean[j] - direct).abs() < 1e-12,
+                        "n={n} d={d} i={i} j={j}: {} vs {direct}",
+                        mean[j]
+                    );
+                }
+            }
+        }
     }
 }

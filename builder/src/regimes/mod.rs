@@ -181,7 +181,7 @@ pub struct Partition {
     pub fuzzy_covariances: Vec<Vec<f64>>,
     /// Distance of each regime (Euclidean for FCM, GK norm otherwise).
     pub norms: Vec<Norm>,
-    /// Memberships, point-major (`len × c`).
+    /// Memberships, regime-major (`c × len`): regime `i`'s row is `[i·len, (i+1)·len)`.
     pub memberships: Vec<f64>,
     /// Objective after each iteration.
     pub objective_history: Vec<f64>,
@@ -207,9 +207,24 @@ impl Partition {
             .unwrap_or(f64::INFINITY)
     }
 
+    /// Number of rows.
+    pub fn len(&self) -> usize {
+        self.memberships.len() / self.count().max(1)
+    }
+
+    /// Whether the partition has no rows.
+    pub fn is_empty(&self) -> bool {
+        self.memberships.is_empty()
+    }
+
     /// Membership of row `k` in regime `i`.
     pub fn membership(&self, k: usize, i: usize) -> f64 {
-        self.memberships[k * self.count() + i]
+        self.memberships[i * self.len() + k]
+    }
+
+    /// Memberships of row `k`.
+    pub fn row(&self, k: usize) -> Vec<f64> {
+        (0..self.count()).map(|i| self.membership(k, i)).collect()
     }
 }
 
@@ -225,7 +240,7 @@ fn moments(sums: &[Sums], refs: &[Vec<f64>]) -> (Vec<Vec<f64>>, Vec<Vec<f64>>) {
 pub enum Start {
     /// From these centers.
     Centers(Vec<Vec<f64>>),
-    /// From this partition (point-major `len × c`).
+    /// From this partition (regime-major `c × len`).
     Memberships(Vec<f64>),
 }
 
@@ -287,7 +302,7 @@ pub struct GkState {
     pub centers: Vec<Vec<f64>>,
     /// Fuzzy covariances before regularization.
     pub fuzzy_covariances: Vec<Vec<f64>>,
-    /// Memberships, point-major.
+    /// Memberships, regime-major (`c × len`).
     pub memberships: Vec<f64>,
 }
 
@@ -300,7 +315,12 @@ pub fn gk_norms(
     let d = state.centers.first().map_or(0, Vec::len);
     let mut covs = Vec::with_capacity(state.centers.len());
     let mut norms = Vec::with_capacity(state.centers.len());
-    for (i, (center, raw)) in state.centers.iter().zip(&state.fuzzy_covariances).enumerate() {
+    for (i, (center, raw)) in state
+        .centers
+        .iter()
+        .zip(&state.fuzzy_covariances)
+        .enumerate()
+    {
         let f = covariance::regularize(raw, d, global_scale, params.regularization);
         let (norm, _) = covariance::gk_norm(center, &f, params.volume(i), i)?;
         covs.push(f);
@@ -318,7 +338,14 @@ pub fn gk_step(
     global_scale: f64,
 ) -> Result<(f64, f64), RegimeError> {
     let (_, norms) = gk_norms(state, params, global_scale)?;
-    let r = pass(data, &norms, params.fuzziness, &mut state.memberships, &state.centers, true);
+    let r = pass(
+        data,
+        &norms,
+        params.fuzziness,
+        &mut state.memberships,
+        &state.centers,
+        true,
+    );
     (state.centers, state.fuzzy_covariances) = moments(&r.sums, &state.centers);
     Ok((r.objective, r.max_change))
 }
@@ -365,7 +392,11 @@ pub fn gustafson_kessel(
 /// that the data are finite and that no variable is constant.
 pub fn data_scale(data: &Columns, params: &RegimeParams) -> Result<f64, RegimeError> {
     let global = check_data(data)?;
-    Ok(covariance::global_scale(&global, data.dim, params.regularization.max_condition))
+    Ok(covariance::global_scale(
+        &global,
+        data.dim,
+        params.regularization.max_condition,
+    ))
 }
 
 /// Checks the data are finite and non-constant; returns the covariance of all data.

@@ -94,7 +94,8 @@ fn same_seed_gives_identical_partition() {
 fn memberships_are_a_fuzzy_partition() {
     let data = three_regime_process(900);
     let p = cluster(&data, &RegimeParams::new(3)).expect("cluster");
-    for row in p.memberships.chunks_exact(3) {
+    for k in 0..p.len() {
+        let row = p.row(k);
         let s: f64 = row.iter().sum();
         assert!((s - 1.0).abs() < 1e-12);
         assert!(row.iter().all(|u| (0.0..=1.0).contains(u)));

@@ -24,7 +24,7 @@ fn row_of(data: &Columns, k: usize, row: &mut [f64]) {
 }
 
 impl Typicality {
-    /// Estimates η from memberships (point-major) and the regimes' norms.
+    /// Estimates η from memberships (regime-major `c × len`) and the regimes' norms.
     pub fn estimate(data: &Columns, norms: &[Norm], memberships: &[f64], m: f64) -> Typicality {
         let c = norms.len();
         let mut num = vec![0.0; c];
@@ -33,7 +33,7 @@ impl Typicality {
         for k in 0..data.len {
             row_of(data, k, &mut row);
             for (i, norm) in norms.iter().enumerate() {
-                let w = memberships[k * c + i].powf(m);
+                let w = memberships[i * data.len + k].powf(m);
                 num[i] += w * norm.distance2(&row);
                 den[i] += w;
             }

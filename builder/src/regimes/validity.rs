@@ -44,7 +44,7 @@ pub struct Validity {
     pub objective: f64,
 }
 
-/// Partition coefficient and entropy of point-major memberships (`len × c`).
+/// Partition coefficient and entropy of memberships (`c × len`, any order).
 pub fn coefficient_and_entropy(memberships: &[f64], c: usize) -> (f64, f64) {
     let n = (memberships.len() / c.max(1)).max(1) as f64;
     let pc = memberships.iter().map(|u| u * u).sum::<f64>() / n;
@@ -67,7 +67,7 @@ pub fn xie_beni(data: &Columns, memberships: &[f64], centers: &[Vec<f64>], m: f6
             let d2: f64 = (0..data.dim)
                 .map(|j| (data.values[j * n + k] - v[j]).powi(2))
                 .sum();
-            numerator += memberships[k * c + i].powf(m) * d2;
+            numerator += memberships[i * n + k].powf(m) * d2;
         }
     }
     let mut separation = f64::INFINITY;
@@ -109,7 +109,7 @@ pub fn measures(data: &Columns, p: &Partition) -> Result<Validity, RegimeError> 
             for (j, r) in row.iter_mut().enumerate() {
                 *r = data.values[j * n + k];
             }
-            let u = p.memberships[k * c + i];
+            let u = p.memberships[i * n + k];
             if unit.distance2(&row) / kappa < 1.0 {
                 central += u;
             }
@@ -193,7 +193,7 @@ mod tests {
     #[test]
     fn xie_beni_hand_example() {
         let data = Columns::from_rows(&[0.0, 1.0, 10.0, 11.0], 1);
-        let u = [1.0, 0.0, 1.0, 0.0, 0.0, 1.0, 0.0, 1.0];
+        let u = [1.0, 1.0, 0.0, 0.0, 0.0, 0.0, 1.0, 1.0];
         let xb = xie_beni(&data, &u, &[vec![0.5], vec![10.5]], 2.0);
         assert!((xb - 0.0025).abs() < 1e-15);
     }

@@ -160,7 +160,7 @@ fn simulate(rng: &mut ChaCha8Rng) -> Vec<Truth> {
         if minute >= next_move {
             // Operators cycle through high purity, normal and loose operation (pushing
             // throughput), in a shuffled order within each round of three.
-            if block % 3 == 0 {
+            if block.is_multiple_of(3) {
                 for i in (1..3).rev() {
                     order.swap(i, rng.gen_range(0..=i));
                 }
@@ -250,7 +250,7 @@ pub fn generate() -> Vec<(String, String)> {
     let mut rows: Vec<Vec<String>> = Vec::with_capacity(n);
     let mut analyzer_value = truth[0].impurity;
     for (k, t) in truth.iter().enumerate() {
-        if k % ANALYZER_CYCLE == 0 && k >= ANALYZER_DEAD_TIME {
+        if k.is_multiple_of(ANALYZER_CYCLE) && k >= ANALYZER_DEAD_TIME {
             let true_value = truth[k - ANALYZER_DEAD_TIME].impurity;
             analyzer_value =
                 (true_value * (1.0 + 0.02 * gauss(&mut rng)) + 0.002 * gauss(&mut rng)).max(0.0005);
