@@ -1,10 +1,34 @@
 //! regimix runtime: evaluates a regimix soft-sensor model once per sample.
 //!
-//! `#![no_std]` without `alloc`: everything lives in caller-provided storage. This crate depends
-//! only on [`regimix_format`], the model-file format crate.
+//! `#![no_std]` without `alloc`. A model is a validated view over the bytes of a model file
+//! ([`ModelView`]); the estimator's state lives in a slice the caller provides, sized by
+//! [`state_words`]. Per sample: inputs in, an [`Estimate`] out, with [`Status`] flags, the largest
+//! typicality and the dominant regime; [`Estimator::weights`] gives every regime's weight. Lab
+//! results are fed back with [`Estimator::lab_result`]. The estimator runs in `f64` or, for
+//! controllers with a single-precision FPU, in `f32` (see [`Real`]).
 //!
-//! Present so far: the target transforms the runtime applies to its estimates
-//! ([`Transform`]), shared with the builder so both compute the same numbers.
-#![no_std]
+//! ```
+//! # fn main() -> Result<(), Box<dyn std::error::Error>> {
+//! # let bytes = include_bytes!("../../docs/examples/tiny-model.rgmx");
+//! use regimix_runtime::{state_words, Estimator, ModelView};
+//! let model = ModelView::parse(bytes)?;           // magic, version, CRC, limits checked
+//! let mut state = vec![0.0f64; state_words(&model)]; // or a static [f64; N]
+//! let mut sensor = Estimator::new(model, &mut state)?;
+//! let estimate = sensor.step(&[1.0]);
+//! assert!(estimate.value.is_finite());
+//! # Ok(()) }
+//! ```
+#![cfg_attr(not(test), no_std)]
 
+mod estimator;
+#[cfg(feature = "ffi")]
+pub mod ffi;
+mod real;
+mod status;
+
+pub use estimator::{state_words, Estimate, Estimator, InitError};
+pub use real::Real;
 pub use regimix_format::transform::Transform;
+pub use regimix_format::{DecodeError, ModelView};
+pub use status::{LabOutcome, Status};
+

@@ -8,7 +8,7 @@ and this machine's matrix-multiply rate (numpy/OpenBLAS dgemm, 4096^3, both core
 the arithmetic bound of one GK iteration, 2*N*c*(2d^2 + d) flops, is converted to seconds.
 
 Usage:  python3 scripts/bench/compare_clustering.py [N D C]      (default 1000000 8 6)
-It creates .venv-bench/ with numpy, scikit-learn, scikit-fuzzy and threadpoolctl on first use.
+It creates .venv-bench/ with numpy, scikit-learn, scikit-fuzzy, packaging and threadpoolctl.
 """
 import json
 import os
@@ -19,20 +19,22 @@ import time
 
 ROOT = pathlib.Path(__file__).resolve().parents[2]
 VENV = ROOT / ".venv-bench"
-PACKAGES = ["numpy", "scikit-learn", "scikit-fuzzy", "threadpoolctl"]
+# scikit-fuzzy imports `packaging` without declaring it.
+PACKAGES = ["numpy", "scikit-learn", "scikit-fuzzy", "packaging", "threadpoolctl"]
 
 
 def ensure_venv():
     python = VENV / "bin" / "python"
     if not python.exists():
         subprocess.run([sys.executable, "-m", "venv", str(VENV)], check=True)
+    if pathlib.Path(sys.prefix).resolve() != VENV.resolve():
         subprocess.run([str(python), "-m", "pip", "install", "-q", *PACKAGES], check=True)
     return python
 
 
 def main():
     python = ensure_venv()
-    if pathlib.Path(sys.executable).resolve() != python.resolve() or "OPENBLAS_CORETYPE" in os.environ:
+    if pathlib.Path(sys.prefix).resolve() != VENV.resolve() or "OPENBLAS_CORETYPE" in os.environ:
         # Re-run inside the venv, without the OpenBLAS overrides some machines set (they force a
         # slower kernel; see the env notes) and with both cores for BLAS.
         env = {k: v for k, v in os.environ.items() if k not in ("OPENBLAS_CORETYPE", "OPENBLAS_L2_SIZE")}

@@ -1,0 +1,167 @@
+//! The estimator on the tiny model of docs/model-format.md, with values computed by hand there
+//! and below, plus property tests: no input and no byte string can make it panic or return a
+//! non-finite estimate without a flag.
+
+#[path = "../../shared/examples/tiny_model.rs"]
+#[allow(dead_code)]
+mod tiny;
+
+use proptest::prelude::*;
+use regimix_runtime::{state_words, Estimator, LabOutcome, ModelView, Status};
+
+fn bytes() -> Vec<u8> {
+    tiny::tiny_model().to_bytes().expect("encode")
+}
+
+#[test]
+fn memberships_and_blend_match_the_hand_computation() {
+    let b = bytes();
+    let model = ModelView::parse(&b).expect("valid");
+    let mut state = vec![0.0f64; state_words(&model)];
+    let mut e = Estimator::new(model, &mut state).expect("state");
+    let est = e.step(&[95.0]);
+    // x_s = (95 − 100)/10 = −0.5; d² = 0.25, 2.25; β = 4/(4 + 1/2.25) = 0.9, 0.1.
+    assert!((e.weights()[0] - 0.9).abs() < 1e-15 && (e.weights()[1] - 0.1).abs() < 1e-15);
+    // ŷ = 0.9 · (1 + 0.5·95) + 0.1 · (−2 + 0.25·95) = 45.825; typicality max(1/1.25, 1/3.25) = 0.8.
+    assert!((est.value - 45.825).abs() < 1e-12, "{}", est.value);
+    assert!((est.typicality - 0.8).abs() < 1e-15);
+    assert_eq!(est.dominant, 0);
+    assert!(est.status.is_good(), "{:?}", est.status);
+    // At the second center (110 °C): β = (0, 1) up to the 1e-30 floor, y = −2 + 27.5.
+    let est = e.step(&[110.0]);
+    assert!((est.value - 25.5).abs() < 1e-9);
+    assert_eq!(est.dominant, 1);
+    assert_eq!(est.typicality, 1.0);
+}
+
+#[test]
+fn invalid_inputs_are_held_then_fall_back() {
+    let b = bytes();
+    let model = ModelView::parse(&b).expect("valid");
+    let mut state = vec![0.0f64; state_words(&model)];
+    let mut e = Estimator::new(model, &mut state).expect("state");
+    let good = e.step(&[95.0]);
+    // Hold limit 2: two substituted samples, then invalid and fallback (holding the last value).
+    for bad in [f64::NAN, 250.0] {
+        let est = e.step(&[bad]);
+        assert!(est.status.has(Status::INPUT_SUBSTITUTED), "{:?}", est.status);
+        assert_eq!(est.value, good.value);
+    }
+    let est = e.step(&[f64::INFINITY]);
+    assert!(est.status.has(Status::INPUT_INVALID) && est.status.has(Status::FALLBACK));
+    assert_eq!(est.value, good.value);
+    assert!(est.model_value.is_nan());
+    let est = e.step(&[95.0]);
+    assert!(est.status.is_good());
+    let est = e.step(&[95.0, 1.0]);
+    assert!(est.status.has(Status::WRONG_INPUT_COUNT) && est.status.has(Status::FALLBACK));
+}
+
+#[test]
+fn far_inputs_are_out_of_domain() {
+    let b = bytes();
+    let model = ModelView::parse(&b).expect("valid");
+    let mut state = vec![0.0f64; state_words(&model)];
+    let mut e = Estimator::new(model, &mut state).expect("state");
+    // 190 °C: x_s = 9, nearest center at 1, d² = 64 → typicality 1/65 ≈ 0.015 < 0.05.
+    let est = e.step(&[190.0]);
+    assert!(est.status.has(Status::OUT_OF_DOMAIN));
+    assert!((est.typicality - 1.0 / 65.0).abs() < 1e-12);
+}
+
+#[test]
+fn lab_feedback_updates_the_bias_with_the_estimate_at_sample_time() {
+    let b = bytes();
+    let model = ModelView::parse(&b).expect("valid");
+    let mut state = vec![0.0f64; state_words(&model)];
+    let mut e = Estimator::new(model, &mut state).expect("state");
+    e.step(&[95.0]); // ŷ = 45.825, two samples before the result
+    e.step(&[110.0]); // ŷ = 25.5
+    e.step(&[110.0]);
+    // Lab says 47.825 for the material sampled 2 samples ago: residual 2, gain 0.5 → bias 1.
+    match e.lab_result(47.825, 2) {
+        LabOutcome::Applied(bias) => assert!((bias - 1.0).abs() < 1e-12, "{bias}"),
+        other => panic!("expected the update to apply, got {other:?}"),
+    }
+    let est = e.step(&[110.0]);
+    assert!((est.value - 26.5).abs() < 1e-9, "bias applied: {}", est.value);
+    // Residual 10 from a bias of 1 exceeds 3 residual SDs: rejected, bias unchanged.
+    assert_eq!(e.lab_result(35.5, 0), LabOutcome::RejectedOutlier);
+    assert_eq!(e.lab_result(30.0, 5), LabOutcome::RejectedAge);
+    assert!((e.bias() - 1.0).abs() < 1e-9);
+    // A sample with a substituted input is not trusted for the bias update.
+    e.step(&[f64::NAN]);
+    assert_eq!(e.lab_result(25.5, 0), LabOutcome::RejectedStatus);
+}
+
+#[test]
+fn f32_path_agrees_with_f64() {
+    let b = bytes();
+    let model = ModelView::parse(&b).expect("valid");
+    let mut s64 = vec![0.0f64; state_words(&model)];
+    let mut s32 = vec![0.0f32; state_words(&model)];
+    let mut e64 = Estimator::new(model, &mut s64).expect("state");
+    let mut e32 = Estimator::new(model, &mut s32).expect("state");
+    for k in 0..2000 {
+        let x = 100.0 + 15.0 * (k as f64 * 0.01).sin();
+        let a = e64.step(&[x]);
+        let b = e32.step(&[x as f32]);
+        assert_eq!(a.status, b.status);
+        assert!((a.value - f64::from(b.value)).abs() <= 1e-5 * a.value.abs().max(1.0), "{k}: {} vs {}", a.value, b.value);
+    }
+}
+
+#[test]
+fn too_small_state_is_an_error() {
+    let b = bytes();
+    let model = ModelView::parse(&b).expect("valid");
+    let mut state = vec![0.0f64; state_words(&model) - 1];
+    assert!(Estimator::new(model, &mut state).is_err());
+}
+
+proptest! {
+    #[test]
+    fn decoding_arbitrary_bytes_never_panics(data in proptest::collection::vec(any::<u8>(), 0..600)) {
+        let _ = ModelView::parse(&data);
+        let _ = ModelView::parse_trusted(&data);
+    }
+
+    #[test]
+    fn mutated_model_bytes_never_panic(pos in 0usize..268, value in any::<u8>()) {
+        let mut b = bytes();
+        b[pos] = value;
+        let _ = ModelView::parse(&b);
+        if let Ok(view) = ModelView::parse_trusted(&b) {
+            let mut state = vec![0.0f64; state_words(&view)];
+            if let Ok(mut e) = Estimator::new(view, &mut state) {
+                let est = e.step(&[95.0]);
+                prop_assert!(est.value.is_finite() || !est.status.is_good());
+            }
+        }
+    }
+
+    #[test]
+    fn any_inputs_give_a_finite_estimate_or_a_flag(
+        xs in proptest::collection::vec(prop_oneof![
+            any::<f64>(),
+            Just(f64::NAN), Just(f64::INFINITY), Just(f64::NEG_INFINITY),
+            Just(f64::MIN_POSITIVE / 2.0), Just(1e308), Just(-0.0),
+            0.0f64..200.0,
+        ], 1..40),
+        lab in proptest::collection::vec((any::<f64>(), any::<u16>()), 0..5),
+    ) {
+        let b = bytes();
+        let model = ModelView::parse(&b).expect("valid");
+        let mut state = vec![0.0f64; state_words(&model)];
+        let mut e = Estimator::new(model, &mut state).expect("state");
+        for x in xs {
+            let est = e.step(&[x]);
+            prop_assert!(est.value.is_finite() || est.status.has(Status::FALLBACK));
+            prop_assert!(est.typicality.is_finite());
+        }
+        for (v, age) in lab {
+            let _ = e.lab_result(v, age);
+            prop_assert!(e.bias().is_finite());
+        }
+    }
+}
