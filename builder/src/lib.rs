@@ -7,10 +7,13 @@
 //!
 //! The command-line tool `regimix` (in `main.rs`) is a thin layer over these modules.
 
+pub mod analysis;
 pub mod config;
 pub mod duration;
 pub mod error;
+pub mod output;
 pub mod prepare;
 pub mod regimes;
+pub mod replay;
 pub mod suggest;
 pub mod timestamp;

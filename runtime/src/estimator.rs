@@ -129,7 +129,11 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
                 given: state.len(),
             });
         }
-        let mut e = Estimator { model, state, layout };
+        let mut e = Estimator {
+            model,
+            state,
+            layout,
+        };
         e.reset();
         Ok(e)
     }
@@ -144,7 +148,11 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
                 given: state.len(),
             });
         }
-        Ok(Estimator { model, state, layout })
+        Ok(Estimator {
+            model,
+            state,
+            layout,
+        })
     }
 
     /// Forgets all history (after a restart or a long outage): warming up again, bias kept.
@@ -157,7 +165,11 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         self.set(BIAS, if bias.is_finite() { bias } else { T::ZERO });
         let n = self.model.n_inputs().min(MAX_INPUTS);
         let layout = self.layout;
-        for ring in layout.rings[..n].iter().copied().chain([layout.out_ring, layout.lab_ring]) {
+        for ring in layout.rings[..n]
+            .iter()
+            .copied()
+            .chain([layout.out_ring, layout.lab_ring])
+        {
             self.set(ring, T::ZERO); // head index
         }
     }
@@ -233,9 +245,12 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
             return self.fallback(Status::WRONG_INPUT_COUNT, T::ZERO, 0);
         }
         let first = !(self.get(COUNT).to_f64() > 0.0);
+        let target = model.target();
         let hold = T::from_f64(f64::from(model.hold_limit()));
         for (j, &x) in inputs.iter().enumerate().take(MAX_INPUTS) {
-            let Some(settings) = model.input(j) else { continue };
+            let Some(settings) = model.input(j) else {
+                continue;
+            };
             let (low, high) = (T::from_f64(settings.low), T::from_f64(settings.high));
             let slot = self.layout.inputs + 2 * j;
             let effective = if x.is_finite() && x >= low && x <= high {
@@ -271,37 +286,39 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         }
         self.set(COUNT, T::from_f64((count + 1.0).min(1e6)));
 
-        // Antecedent: memberships and typicality.
-        let (typicality, dominant) = self.memberships();
-        let threshold = T::from_f64(model.target().domain_threshold);
-        if !(typicality >= threshold) {
-            status |= Status::OUT_OF_DOMAIN;
-        }
-
-        // Consequents, blended.
+        // Antecedent memberships, typicality and the blended consequents, one pass over the
+        // regimes' records.
         if first && model.uses_output_lags() {
+            // Start the output history at the blended steady state (needs the memberships).
+            self.evaluate(&target);
             let start = self.steady_state();
             self.fill(self.layout.out_ring, self.layout.out_len, start);
         }
-        let mut y = T::ZERO;
-        for i in 0..model.n_regimes() {
-            let beta = self.get(self.layout.weights + i);
-            y = y + beta * self.consequent(i);
+        let (y, typicality, dominant) = self.evaluate(&target);
+        if !(typicality >= T::from_f64(target.domain_threshold)) {
+            status |= Status::OUT_OF_DOMAIN;
         }
         if model.uses_output_lags() {
             self.push(self.layout.out_ring, self.layout.out_len, y);
         }
         let trusted = status & Status::UNTRUSTED == 0 && y.is_finite();
-        self.push(self.layout.lab_ring, self.layout.lab_len, if trusted { y } else { T::NAN });
+        self.push(
+            self.layout.lab_ring,
+            self.layout.lab_len,
+            if trusted { y } else { T::NAN },
+        );
         if status & Status::INPUT_INVALID != 0 || !y.is_finite() {
             return self.fallback(status, typicality, dominant);
         }
-        let target = model.target();
         let biased = (y + self.get(BIAS)).to_f64();
         let mut value = self.transform().inverse(biased);
         if !(value >= target.low) || !(value <= target.high) {
             status |= Status::CLIPPED;
-            value = if value > target.high { target.high } else { target.low };
+            value = if value > target.high {
+                target.high
+            } else {
+                target.low
+            };
         }
         let value = T::from_f64(value);
         self.set(LAST, value);
@@ -324,51 +341,74 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         }
     }
 
-    /// Memberships into the weights slots; returns (largest typicality, dominant regime).
-    fn memberships(&mut self) -> (T, u8) {
+    /// Memberships (into the weights slots), typicality and the blended consequent. Returns
+    /// (blended model-domain estimate, largest typicality, dominant regime).
+    fn evaluate(&mut self, target: &regimix_format::TargetSettings) -> (T, T, u8) {
+        use regimix_format::limits::{MAX_ANTECEDENT, MAX_REGIMES, MAX_REGRESSORS};
         let model = self.model;
-        let c = model.n_regimes();
-        let p = model.n_antecedent();
-        let m = model.target().fuzziness;
-        let mut scaled = [T::ZERO; regimix_format::limits::MAX_ANTECEDENT];
+        let c = model.n_regimes().min(MAX_REGIMES);
+        let p = model.n_antecedent().min(MAX_ANTECEDENT);
+        let nr = model.n_regressors().min(MAX_REGRESSORS);
+        let m = target.fuzziness;
+        let mut scaled = [T::ZERO; MAX_ANTECEDENT];
         for (a, s) in scaled.iter_mut().enumerate().take(p) {
-            let j = model.antecedent_input(a);
-            let settings = model.input(j);
-            let x = self.lagged(self.layout.rings[j.min(MAX_INPUTS - 1)], self.layout.ring_len[j.min(MAX_INPUTS - 1)], 0);
-            *s = match settings {
+            let j = model.antecedent_input(a).min(MAX_INPUTS - 1);
+            let x = self.lagged(self.layout.rings[j], self.layout.ring_len[j], 0);
+            *s = match model.input(j) {
                 Some(st) => (x - T::from_f64(st.mean)) / T::from_f64(st.std),
                 None => T::NAN,
             };
         }
-        let mut d2 = [T::ZERO; regimix_format::limits::MAX_REGIMES];
+        let mut values = [T::ZERO; MAX_REGRESSORS];
+        for (r, v) in values.iter_mut().enumerate().take(nr) {
+            *v = self.regressor_value(r);
+        }
         let tiny = T::from_f64(1e-30);
+        let mut d2 = [T::ZERO; MAX_REGIMES];
+        let mut eta = [T::ONE; MAX_REGIMES];
+        let mut local = [T::ZERO; MAX_REGIMES];
         let mut dmin = T::from_f64(f64::MAX);
-        for (i, d) in d2.iter_mut().enumerate().take(c) {
+        for i in 0..c {
+            let mut record = model.regime_values(i);
+            let mut center = [T::ZERO; MAX_ANTECEDENT];
+            for v in center.iter_mut().take(p) {
+                *v = T::from_f64(record.next().unwrap_or(f64::NAN));
+            }
             let mut total = T::ZERO;
             for row in 0..p {
                 let mut y = T::ZERO;
                 for col in 0..=row {
-                    let diff = scaled[col] - T::from_f64(model.center(i, col));
-                    y = y + T::from_f64(model.factor(i, row, col)) * diff;
+                    let f = T::from_f64(record.next().unwrap_or(f64::NAN));
+                    y = y + f * (scaled[col] - center[col]);
                 }
                 total = total + y * y;
             }
-            *d = if total > tiny { total } else { tiny };
-            if *d < dmin {
-                dmin = *d;
+            d2[i] = if total > tiny { total } else { tiny };
+            if d2[i] < dmin {
+                dmin = d2[i];
             }
+            eta[i] = T::from_f64(record.next().unwrap_or(f64::NAN));
+            let mut y = T::from_f64(record.next().unwrap_or(f64::NAN));
+            for v in values.iter().take(nr) {
+                y = y + T::from_f64(record.next().unwrap_or(f64::NAN)) * *v;
+            }
+            local[i] = y;
         }
         let exponent = T::from_f64(1.0 / (m - 1.0));
         let square = m == 2.0;
         let mut sum = T::ZERO;
         let mut best_t = T::ZERO;
-        for (i, d) in d2.iter().enumerate().take(c) {
-            let ratio = dmin / *d;
-            let u = if square { ratio } else { ratio.powf(exponent) };
-            self.set(self.layout.weights + i, u);
-            sum = sum + u;
-            let scaled_d = *d / T::from_f64(model.eta(i));
-            let power = if square { scaled_d } else { scaled_d.powf(exponent) };
+        let mut u = [T::ZERO; MAX_REGIMES];
+        for i in 0..c {
+            let ratio = dmin / d2[i];
+            u[i] = if square { ratio } else { ratio.powf(exponent) };
+            sum = sum + u[i];
+            let scaled_d = d2[i] / eta[i];
+            let power = if square {
+                scaled_d
+            } else {
+                scaled_d.powf(exponent)
+            };
             let t = T::ONE / (T::ONE + power);
             if t > best_t {
                 best_t = t;
@@ -376,15 +416,21 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         }
         let mut dominant = 0u8;
         let mut best_u = T::ZERO;
+        let mut blended = T::ZERO;
         for i in 0..c {
-            let u = self.get(self.layout.weights + i) / sum;
-            self.set(self.layout.weights + i, u);
-            if u > best_u {
-                best_u = u;
+            let beta = u[i] / sum;
+            self.set(self.layout.weights + i, beta);
+            blended = blended + beta * local[i];
+            if beta > best_u {
+                best_u = beta;
                 dominant = i as u8;
             }
         }
-        (if best_t.is_finite() { best_t } else { T::ZERO }, dominant)
+        (
+            blended,
+            if best_t.is_finite() { best_t } else { T::ZERO },
+            dominant,
+        )
     }
 
     fn regressor_value(&self, r: usize) -> T {
@@ -392,20 +438,18 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
             Some(reg) => match reg.source {
                 Source::Input(j) => {
                     let j = (j as usize).min(MAX_INPUTS - 1);
-                    self.lagged(self.layout.rings[j], self.layout.ring_len[j], reg.lag as usize)
+                    self.lagged(
+                        self.layout.rings[j],
+                        self.layout.ring_len[j],
+                        reg.lag as usize,
+                    )
                 }
-                Source::Output => self.lagged(self.layout.out_ring, self.layout.out_len, reg.lag as usize),
+                Source::Output => {
+                    self.lagged(self.layout.out_ring, self.layout.out_len, reg.lag as usize)
+                }
             },
             None => T::NAN,
         }
-    }
-
-    fn consequent(&self, i: usize) -> T {
-        let mut y = T::from_f64(self.model.offset(i));
-        for r in 0..self.model.n_regressors() {
-            y = y + T::from_f64(self.model.coefficient(i, r)) * self.regressor_value(r);
-        }
-        y
     }
 
     /// Blended steady state with the current inputs (starts the output history).
@@ -423,7 +467,11 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
                 }
             }
             let denom = T::ONE - feedback;
-            let yi = if denom.abs() > T::from_f64(1e-6) { num / denom } else { num };
+            let yi = if denom.abs() > T::from_f64(1e-6) {
+                num / denom
+            } else {
+                num
+            };
             y = y + self.get(self.layout.weights + i) * yi;
         }
         y
@@ -452,7 +500,8 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         if !((residual - bias).abs() <= target.outlier_k * target.residual_sd) {
             return LabOutcome::RejectedOutlier;
         }
-        let updated = (bias + target.bias_gain * (residual - bias)).clamp(-target.bias_limit, target.bias_limit);
+        let updated = (bias + target.bias_gain * (residual - bias))
+            .clamp(-target.bias_limit, target.bias_limit);
         self.set(BIAS, T::from_f64(updated));
         LabOutcome::Applied(updated)
     }

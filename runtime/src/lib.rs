@@ -18,7 +18,7 @@
 //! assert!(estimate.value.is_finite());
 //! # Ok(()) }
 //! ```
-#![cfg_attr(not(test), no_std)]
+#![cfg_attr(not(any(test, feature = "std")), no_std)]
 
 mod estimator;
 #[cfg(feature = "ffi")]
@@ -31,4 +31,3 @@ pub use real::Real;
 pub use regimix_format::transform::Transform;
 pub use regimix_format::{DecodeError, ModelView};
 pub use status::{LabOutcome, Status};
-

@@ -44,7 +44,11 @@ fn invalid_inputs_are_held_then_fall_back() {
     // Hold limit 2: two substituted samples, then invalid and fallback (holding the last value).
     for bad in [f64::NAN, 250.0] {
         let est = e.step(&[bad]);
-        assert!(est.status.has(Status::INPUT_SUBSTITUTED), "{:?}", est.status);
+        assert!(
+            est.status.has(Status::INPUT_SUBSTITUTED),
+            "{:?}",
+            est.status
+        );
         assert_eq!(est.value, good.value);
     }
     let est = e.step(&[f64::INFINITY]);
@@ -84,7 +88,11 @@ fn lab_feedback_updates_the_bias_with_the_estimate_at_sample_time() {
         other => panic!("expected the update to apply, got {other:?}"),
     }
     let est = e.step(&[110.0]);
-    assert!((est.value - 26.5).abs() < 1e-9, "bias applied: {}", est.value);
+    assert!(
+        (est.value - 26.5).abs() < 1e-9,
+        "bias applied: {}",
+        est.value
+    );
     // Residual 10 from a bias of 1 exceeds 3 residual SDs: rejected, bias unchanged.
     assert_eq!(e.lab_result(35.5, 0), LabOutcome::RejectedOutlier);
     assert_eq!(e.lab_result(30.0, 5), LabOutcome::RejectedAge);
@@ -107,7 +115,12 @@ fn f32_path_agrees_with_f64() {
         let a = e64.step(&[x]);
         let b = e32.step(&[x as f32]);
         assert_eq!(a.status, b.status);
-        assert!((a.value - f64::from(b.value)).abs() <= 1e-5 * a.value.abs().max(1.0), "{k}: {} vs {}", a.value, b.value);
+        assert!(
+            (a.value - f64::from(b.value)).abs() <= 1e-5 * a.value.abs().max(1.0),
+            "{k}: {} vs {}",
+            a.value,
+            b.value
+        );
     }
 }
 

@@ -29,13 +29,33 @@ pub fn tiny_model() -> ModelSpec {
         inputs: vec![InputSpec {
             tag: "TI-1".into(),
             unit: "degC".into(),
-            settings: InputSettings { low: 0.0, high: 200.0, mean: 100.0, std: 10.0 },
+            settings: InputSettings {
+                low: 0.0,
+                high: 200.0,
+                mean: 100.0,
+                std: 10.0,
+            },
         }],
-        regressors: vec![Regressor { source: Source::Input(0), lag: 0 }],
+        regressors: vec![Regressor {
+            source: Source::Input(0),
+            lag: 0,
+        }],
         antecedent: vec![0],
         regimes: vec![
-            RegimeSpec { center: vec![-1.0], factor: vec![1.0], eta: 1.0, offset: 1.0, coefficients: vec![0.5] },
-            RegimeSpec { center: vec![1.0], factor: vec![1.0], eta: 1.0, offset: -2.0, coefficients: vec![0.25] },
+            RegimeSpec {
+                center: vec![-1.0],
+                factor: vec![1.0],
+                eta: 1.0,
+                offset: 1.0,
+                coefficients: vec![0.5],
+            },
+            RegimeSpec {
+                center: vec![1.0],
+                factor: vec![1.0],
+                eta: 1.0,
+                offset: -2.0,
+                coefficients: vec![0.25],
+            },
         ],
     }
 }

@@ -82,7 +82,10 @@ impl core::fmt::Display for EncodeError {
     fn fmt(&self, f: &mut core::fmt::Formatter<'_>) -> core::fmt::Result {
         match self {
             EncodeError::Limit(what) => write!(f, "model exceeds the format limit on {what}"),
-            EncodeError::StringTooLong => write!(f, "a tag, unit or version is longer than {MAX_STRING} bytes"),
+            EncodeError::StringTooLong => write!(
+                f,
+                "a tag, unit or version is longer than {MAX_STRING} bytes"
+            ),
             EncodeError::Shape(what) => write!(f, "model parameters have the wrong shape ({what})"),
             EncodeError::Invalid(e) => write!(f, "model does not pass its own format checks: {e}"),
         }
@@ -116,7 +119,10 @@ impl ModelSpec {
             return Err(EncodeError::Limit("lab window"));
         }
         for reg in &self.regimes {
-            if reg.center.len() != p || reg.factor.len() != p * (p + 1) / 2 || reg.coefficients.len() != r {
+            if reg.center.len() != p
+                || reg.factor.len() != p * (p + 1) / 2
+                || reg.coefficients.len() != r
+            {
                 return Err(EncodeError::Shape("regime"));
             }
         }
@@ -142,7 +148,8 @@ impl ModelSpec {
         out.extend_from_slice(&0u64.to_le_bytes()); // model id, patched below
         push_f64(&mut out, self.sample_time);
         debug_assert_eq!(out.len(), HEADER_LEN);
-        let mut strings: Vec<&str> = vec![&self.builder_version, &self.target_tag, &self.target_unit];
+        let mut strings: Vec<&str> =
+            vec![&self.builder_version, &self.target_tag, &self.target_unit];
         for input in &self.inputs {
             strings.push(&input.tag);
             strings.push(&input.unit);
@@ -241,7 +248,10 @@ impl ModelSpec {
             regimes: (0..view.n_regimes())
                 .map(|i| RegimeSpec {
                     center: (0..p).map(|a| view.center(i, a)).collect(),
-                    factor: (0..p).flat_map(|row| (0..=row).map(move |col| (row, col))).map(|(row, col)| view.factor(i, row, col)).collect(),
+                    factor: (0..p)
+                        .flat_map(|row| (0..=row).map(move |col| (row, col)))
+                        .map(|(row, col)| view.factor(i, row, col))
+                        .collect(),
                     eta: view.eta(i),
                     offset: view.offset(i),
                     coefficients: (0..r).map(|k| view.coefficient(i, k)).collect(),

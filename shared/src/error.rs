@@ -52,7 +52,9 @@ impl fmt::Display for DecodeError {
         match self {
             DecodeError::Truncated => write!(f, "model file is truncated"),
             DecodeError::BadMagic => write!(f, "not a regimix model file (bad magic)"),
-            DecodeError::UnsupportedVersion(v) => write!(f, "model format version {v} is not supported"),
+            DecodeError::UnsupportedVersion(v) => {
+                write!(f, "model format version {v} is not supported")
+            }
             DecodeError::LengthMismatch => write!(f, "model file length does not match its header"),
             DecodeError::BadCrc => write!(f, "model file is corrupted (CRC-32 mismatch)"),
             DecodeError::BadModelId => write!(f, "model id does not match the model body"),

@@ -153,7 +153,8 @@ impl<'a> ModelView<'a> {
             return Err(DecodeError::LengthMismatch);
         }
         let body_end = bytes.len() - TRAILER_LEN;
-        if read_u32(bytes, body_end)? != crc32(bytes.get(..body_end).ok_or(DecodeError::Truncated)?) {
+        if read_u32(bytes, body_end)? != crc32(bytes.get(..body_end).ok_or(DecodeError::Truncated)?)
+        {
             return Err(DecodeError::BadCrc);
         }
         Self::parse_checked(bytes)
@@ -177,7 +178,9 @@ impl<'a> ModelView<'a> {
     fn parse_checked(bytes: &'a [u8]) -> Result<ModelView<'a>, DecodeError> {
         let view = Self::layout(bytes)?;
         let body_end = bytes.len() - TRAILER_LEN;
-        let body = bytes.get(HEADER_LEN..body_end).ok_or(DecodeError::BadLayout)?;
+        let body = bytes
+            .get(HEADER_LEN..body_end)
+            .ok_or(DecodeError::BadLayout)?;
         if fnv1a64(body) != view.model_id {
             return Err(DecodeError::BadModelId);
         }
@@ -202,7 +205,8 @@ impl<'a> ModelView<'a> {
         }
         let transform_code = *bytes.get(26).ok_or(DecodeError::Truncated)?;
         let flags = *bytes.get(27).ok_or(DecodeError::Truncated)?;
-        if flags & !FLAG_OUTPUT_LAGS != 0 || read_u16(bytes, 20)? != 0 || read_u32(bytes, 28)? != 0 {
+        if flags & !FLAG_OUTPUT_LAGS != 0 || read_u16(bytes, 20)? != 0 || read_u32(bytes, 28)? != 0
+        {
             return Err(DecodeError::InvalidField);
         }
         let model_id = read_u64(bytes, 32)?;
@@ -215,14 +219,21 @@ impl<'a> ModelView<'a> {
         let mut at = strings;
         for _ in 0..(3 + 2 * n_inputs) {
             let len = *bytes.get(at).ok_or(DecodeError::BadLayout)? as usize;
-            let text = bytes.get(at + 1..at + 1 + len).ok_or(DecodeError::BadLayout)?;
+            let text = bytes
+                .get(at + 1..at + 1 + len)
+                .ok_or(DecodeError::BadLayout)?;
             if core::str::from_utf8(text).is_err() {
                 return Err(DecodeError::BadString);
             }
             at += 1 + len;
         }
         let padded = at.div_ceil(8) * 8;
-        if bytes.get(at..padded).ok_or(DecodeError::BadLayout)?.iter().any(|b| *b != 0) {
+        if bytes
+            .get(at..padded)
+            .ok_or(DecodeError::BadLayout)?
+            .iter()
+            .any(|b| *b != 0)
+        {
             return Err(DecodeError::InvalidField);
         }
         let target = padded;
@@ -266,7 +277,10 @@ impl<'a> ModelView<'a> {
             let reg = view.regressor_raw(r)?;
             match reg.source {
                 Source::Input(j) => {
-                    let slot = view.max_lag.get_mut(j as usize).ok_or(DecodeError::InvalidField)?;
+                    let slot = view
+                        .max_lag
+                        .get_mut(j as usize)
+                        .ok_or(DecodeError::InvalidField)?;
                     if j as usize >= n_inputs {
                         return Err(DecodeError::InvalidField);
                     }
@@ -307,12 +321,26 @@ impl<'a> ModelView<'a> {
             && t.bias_gain <= 1.0
             && t.bias_limit >= 0.0
             && t.outlier_k > 0.0;
-        if !ok || !t.low.is_finite() || !t.high.is_finite() || !t.residual_sd.is_finite() || !t.bias_limit.is_finite() || !t.outlier_k.is_finite() || !t.full_scale.is_finite() || !t.fuzziness.is_finite() {
+        if !ok
+            || !t.low.is_finite()
+            || !t.high.is_finite()
+            || !t.residual_sd.is_finite()
+            || !t.bias_limit.is_finite()
+            || !t.outlier_k.is_finite()
+            || !t.full_scale.is_finite()
+            || !t.fuzziness.is_finite()
+        {
             return Err(DecodeError::InvalidField);
         }
         for j in 0..self.n_inputs {
             let s = self.input(j).ok_or(DecodeError::BadLayout)?;
-            if !(s.low.is_finite() && s.high.is_finite() && s.low < s.high && s.mean.is_finite() && s.std.is_finite() && s.std > 0.0) {
+            if !(s.low.is_finite()
+                && s.high.is_finite()
+                && s.low < s.high
+                && s.mean.is_finite()
+                && s.std.is_finite()
+                && s.std > 0.0)
+            {
                 return Err(DecodeError::InvalidField);
             }
         }
@@ -482,6 +510,23 @@ impl<'a> ModelView<'a> {
     fn regime_start(&self, i: usize) -> usize {
         self.regimes + i * regime_len(self.n_antecedent, self.n_regressors)
     }
+    /// Regime `i`'s record (section F) as f64 values in file order: center, factor, η, offset,
+    /// coefficients. Reads the bytes sequentially, for the runtime's hot path.
+    pub fn regime_values(&self, i: usize) -> impl Iterator<Item = f64> + 'a {
+        let len = regime_len(self.n_antecedent, self.n_regressors);
+        let start = self.regime_start(i);
+        let bytes: &'a [u8] = if i < self.n_regimes {
+            self.bytes.get(start..start + len).unwrap_or(&[])
+        } else {
+            &[]
+        };
+        bytes.chunks_exact(8).map(|c| {
+            let mut a = [0u8; 8];
+            a.copy_from_slice(c);
+            f64::from_le_bytes(a)
+        })
+    }
+
     /// Antecedent center of regime `i`, variable `a` (scaled units).
     pub fn center(&self, i: usize, a: usize) -> f64 {
         self.f64_at(self.regime_start(i) + 8 * a)

@@ -1,0 +1,183 @@
+//! `regimix inspect MODEL [--json]`.
+
+use std::path::Path;
+
+use anyhow::Context;
+use regimix_builder::analysis::{regime_dynamics, RegimeDynamics};
+use regimix_format::transform::Transform;
+use regimix_format::{ModelView, Source};
+use serde::Serialize;
+
+#[derive(Serialize)]
+struct InputInfo {
+    tag: String,
+    unit: String,
+    low: f64,
+    high: f64,
+    mean: f64,
+    std: f64,
+}
+
+#[derive(Serialize)]
+struct Summary {
+    model_id: String,
+    builder_version: String,
+    target: String,
+    target_unit: String,
+    transform: String,
+    sample_time_s: f64,
+    simulation_mode: bool,
+    inputs: Vec<InputInfo>,
+    regressors: Vec<String>,
+    antecedent: Vec<String>,
+    hold_limit_samples: u16,
+    lab_window_samples: u16,
+    domain_threshold: f64,
+    residual_sd: f64,
+    bias_gain: f64,
+    bias_limit: f64,
+    outlier_k: f64,
+    estimate_range: (f64, f64),
+    regimes: Vec<RegimeDynamics>,
+}
+
+fn summary(m: &ModelView<'_>) -> Summary {
+    let t = m.target();
+    Summary {
+        model_id: format!("{:016x}", m.model_id()),
+        builder_version: m.builder_version().into(),
+        target: m.target_tag().into(),
+        target_unit: m.target_unit().into(),
+        transform: match m.transform() {
+            Transform::Identity => "none".into(),
+            Transform::Log => "log".into(),
+            Transform::Logit { full_scale } => format!("logit (full scale {full_scale})"),
+        },
+        sample_time_s: m.sample_time(),
+        simulation_mode: m.uses_output_lags(),
+        inputs: (0..m.n_inputs())
+            .filter_map(|j| {
+                m.input(j).map(|s| InputInfo {
+                    tag: m.input_tag(j).into(),
+                    unit: m.input_unit(j).into(),
+                    low: s.low,
+                    high: s.high,
+                    mean: s.mean,
+                    std: s.std,
+                })
+            })
+            .collect(),
+        regressors: (0..m.n_regressors())
+            .filter_map(|r| m.regressor(r))
+            .map(|g| match g.source {
+                Source::Input(j) => format!("{}(k-{})", m.input_tag(j as usize), g.lag),
+                Source::Output => format!("{}(k-{})", m.target_tag(), g.lag),
+            })
+            .collect(),
+        antecedent: (0..m.n_antecedent())
+            .map(|a| m.input_tag(m.antecedent_input(a)).to_string())
+            .collect(),
+        hold_limit_samples: m.hold_limit(),
+        lab_window_samples: m.lab_window(),
+        domain_threshold: t.domain_threshold,
+        residual_sd: t.residual_sd,
+        bias_gain: t.bias_gain,
+        bias_limit: t.bias_limit,
+        outlier_k: t.outlier_k,
+        estimate_range: (t.low, t.high),
+        regimes: regime_dynamics(m),
+    }
+}
+
+fn seconds(v: Option<f64>) -> String {
+    match v {
+        Some(s) if s >= 120.0 => format!("{:.1} min", s / 60.0),
+        Some(s) => format!("{s:.0} s"),
+        None => "—".into(),
+    }
+}
+
+/// Prints what a model file holds.
+pub fn run(path: &Path, json: bool) -> anyhow::Result<()> {
+    let bytes =
+        std::fs::read(path).with_context(|| format!("cannot read model {}", path.display()))?;
+    let model = ModelView::parse(&bytes).with_context(|| format!("{}", path.display()))?;
+    let s = summary(&model);
+    if json {
+        println!("{}", serde_json::to_string_pretty(&s)?);
+        return Ok(());
+    }
+    println!(
+        "Model {} (format 1, builder {})",
+        s.model_id, s.builder_version
+    );
+    println!(
+        "  estimates {} [{}], transform {}, every {} s, {}",
+        s.target,
+        s.target_unit,
+        s.transform,
+        s.sample_time_s,
+        if s.simulation_mode {
+            "simulation mode (own past outputs)"
+        } else {
+            "no output lags"
+        }
+    );
+    println!("  regressors: {}", s.regressors.join(", "));
+    println!("  regimes scheduled on: {}", s.antecedent.join(", "));
+    println!(
+        "  invalid inputs held {} samples; lab results up to {} samples old; bias gain {}, limit ±{}, outliers beyond {}·{}",
+        s.hold_limit_samples, s.lab_window_samples, s.bias_gain, s.bias_limit, s.outlier_k, s.residual_sd
+    );
+    println!(
+        "  out of trained domain below typicality {}",
+        s.domain_threshold
+    );
+    println!("\nInputs");
+    for i in &s.inputs {
+        println!(
+            "  {:<16} [{}]  valid {} … {}, training mean {:.4} sd {:.4}",
+            i.tag, i.unit, i.low, i.high, i.mean, i.std
+        );
+    }
+    for r in &s.regimes {
+        println!(
+            "\nRegime {} — target {:.4} {} at:",
+            r.regime + 1,
+            r.target,
+            s.target_unit
+        );
+        let point: Vec<String> = r
+            .operating_point
+            .iter()
+            .map(|(t, v)| format!("{t} {v:.4}"))
+            .collect();
+        println!("  {}", point.join(", "));
+        println!(
+            "  {}",
+            if r.stable {
+                "stable"
+            } else {
+                "UNSTABLE: a pole lies on or outside the unit circle"
+            }
+        );
+        for i in &r.inputs {
+            if i.model_gain == 0.0 {
+                continue;
+            }
+            println!(
+                "  {:<16} gain {:>12.5} {}/{}  dead time {:>9}  time constant {:>9}",
+                i.tag,
+                i.gain,
+                s.target_unit,
+                s.inputs
+                    .iter()
+                    .find(|x| x.tag == i.tag)
+                    .map_or("", |x| x.unit.as_str()),
+                seconds(i.dead_time),
+                seconds(i.time_constant)
+            );
+        }
+    }
+    Ok(())
+}

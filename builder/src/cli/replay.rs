@@ -1,0 +1,36 @@
+//! `regimix replay MODEL DATA.csv [--out FILE]`.
+
+use std::path::Path;
+
+use anyhow::Context;
+use regimix_builder::output::write_atomic;
+use regimix_builder::replay::{read_inputs, replay, to_csv};
+use regimix_format::ModelView;
+
+/// Replays `data` through the model and writes the estimates (stdout without `--out`).
+pub fn run(
+    model_path: &Path,
+    data: &Path,
+    out: Option<&Path>,
+    timestamp: Option<&str>,
+    delimiter: char,
+) -> anyhow::Result<()> {
+    let bytes = std::fs::read(model_path)
+        .with_context(|| format!("cannot read model {}", model_path.display()))?;
+    let model = ModelView::parse(&bytes).with_context(|| format!("{}", model_path.display()))?;
+    if !delimiter.is_ascii() {
+        anyhow::bail!("--delimiter must be one ASCII character");
+    }
+    let (times, rows) = read_inputs(data, &model, timestamp, delimiter as u8)?;
+    let replayed =
+        replay(&bytes, &times, &rows).with_context(|| format!("{}", model_path.display()))?;
+    let text = to_csv(&replayed, model.n_regimes());
+    match out {
+        Some(path) => {
+            write_atomic(path, text.as_bytes())?;
+            eprintln!("wrote {} rows to {}", replayed.len(), path.display());
+        }
+        None => print!("{text}"),
+    }
+    Ok(())
+}

@@ -1,0 +1,168 @@
+//! Runs the runtime crate over a table of inputs, from the model file's bytes: what `regimix
+//! replay` prints and what validation scores, so that what is validated is exactly what runs.
+
+use std::fmt::Write as _;
+use std::path::Path;
+
+use regimix_format::{DecodeError, ModelView};
+use regimix_runtime::{state_words, Estimator, Status};
+
+use crate::error::DataError;
+use crate::prepare::historian::{read_file, ReadSpec};
+use crate::timestamp::{Micros, Rfc3339};
+
+/// One replayed sample.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ReplayRow {
+    /// Sample time.
+    pub time: Micros,
+    /// Estimate, engineering units.
+    pub value: f64,
+    /// Raw model-domain estimate.
+    pub model_value: f64,
+    /// Status flags.
+    pub status: u16,
+    /// Largest typicality.
+    pub typicality: f64,
+    /// Dominant regime.
+    pub dominant: u8,
+    /// Regime weights.
+    pub weights: Vec<f64>,
+}
+
+/// Status flags as text: `ok`, or names joined with `|`.
+pub fn status_text(status: u16) -> String {
+    const NAMES: [(u16, &str); 7] = [
+        (Status::INPUT_SUBSTITUTED, "substituted"),
+        (Status::INPUT_INVALID, "input-invalid"),
+        (Status::OUT_OF_DOMAIN, "out-of-domain"),
+        (Status::WARMING_UP, "warming-up"),
+        (Status::FALLBACK, "fallback"),
+        (Status::WRONG_INPUT_COUNT, "wrong-input-count"),
+        (Status::CLIPPED, "clipped"),
+    ];
+    let names: Vec<&str> = NAMES
+        .iter()
+        .filter(|(bit, _)| status & bit != 0)
+        .map(|(_, n)| *n)
+        .collect();
+    if names.is_empty() {
+        "ok".to_string()
+    } else {
+        names.join("|")
+    }
+}
+
+/// Steps a fresh estimator over `rows` (each row: the model's inputs in order).
+pub fn replay(
+    bytes: &[u8],
+    times: &[Micros],
+    rows: &[Vec<f64>],
+) -> Result<Vec<ReplayRow>, DecodeError> {
+    let model = ModelView::parse(bytes)?;
+    let mut state = vec![0.0f64; state_words(&model)];
+    let Ok(mut estimator) = Estimator::new(model, &mut state) else {
+        return Err(DecodeError::LimitExceeded);
+    };
+    Ok(times
+        .iter()
+        .zip(rows)
+        .map(|(&time, row)| {
+            let e = estimator.step(row);
+            ReplayRow {
+                time,
+                value: e.value,
+                model_value: e.model_value,
+                status: e.status.0,
+                typicality: e.typicality,
+                dominant: e.dominant,
+                weights: estimator.weights().to_vec(),
+            }
+        })
+        .collect())
+}
+
+/// Reads a CSV for replay: the timestamp column (default: the first column) and the model's input
+/// tags, one step per row. Quality markers and blanks become NaN (the runtime substitutes them).
+pub fn read_inputs(
+    path: &Path,
+    model: &ModelView<'_>,
+    timestamp: Option<&str>,
+    delimiter: u8,
+) -> Result<(Vec<Micros>, Vec<Vec<f64>>), DataError> {
+    let timestamp = match timestamp {
+        Some(t) => t.to_string(),
+        None => first_column(path, delimiter)?,
+    };
+    let columns: Vec<(String, &'static str)> = (0..model.n_inputs())
+        .map(|j| (model.input_tag(j).to_string(), "model input"))
+        .collect();
+    let spec = ReadSpec {
+        delimiter,
+        timestamp: &timestamp,
+        columns: &columns,
+        naive_offset_minutes: 0,
+    };
+    let table = read_file(path, &spec)?;
+    let rows = (0..table.times.len())
+        .map(|k| table.columns.iter().map(|c| c.values[k]).collect())
+        .collect();
+    Ok((table.times, rows))
+}
+
+fn first_column(path: &Path, delimiter: u8) -> Result<String, DataError> {
+    let mut reader = csv::ReaderBuilder::new()
+        .delimiter(delimiter)
+        .has_headers(false)
+        .flexible(true)
+        .from_path(path)
+        .map_err(|e| DataError::Read {
+            path: path.to_path_buf(),
+            source: std::io::Error::other(e.to_string()),
+        })?;
+    let mut record = csv::StringRecord::new();
+    match reader.read_record(&mut record) {
+        Ok(true) => Ok(record
+            .get(0)
+            .unwrap_or("")
+            .trim_start_matches('\u{feff}')
+            .trim()
+            .to_string()),
+        Ok(false) => Err(DataError::Empty {
+            path: path.to_path_buf(),
+        }),
+        Err(_) => Err(DataError::InvalidUtf8 {
+            path: path.to_path_buf(),
+            line: 1,
+            column: "?".into(),
+            field: 1,
+        }),
+    }
+}
+
+/// The replay table as CSV: timestamp, estimate, status (integer), flags, typicality, regime,
+/// then one weight column per regime. Numbers use the shortest text that reads back exactly.
+pub fn to_csv(rows: &[ReplayRow], regimes: usize) -> String {
+    let mut out = String::from("timestamp,estimate,status,flags,typicality,regime");
+    for i in 1..=regimes {
+        let _ = write!(out, ",weight_{i}");
+    }
+    out.push('\n');
+    for r in rows {
+        let _ = write!(
+            out,
+            "{},{:?},{},{},{:?},{}",
+            Rfc3339(r.time),
+            r.value,
+            r.status,
+            status_text(r.status),
+            r.typicality,
+            r.dominant + 1
+        );
+        for w in &r.weights {
+            let _ = write!(out, ",{w:?}");
+        }
+        out.push('\n');
+    }
+    out
+}
