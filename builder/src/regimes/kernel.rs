@@ -307,6 +307,9 @@ fn chunk_kernel<const D: usize>(
     let mut max_change = [0.0f64; 8];
     let mut d2 = vec![[0.0f64; 8]; c];
     let mut us = vec![[0.0f64; 8]; c];
+    let mut z_buf = [[[0.0f64; 8]; D]; BATCH];
+    let mut us_buf = vec![[0.0f64; 8]; BATCH * c];
+    let mut pending = 0usize;
     let mut g0 = 0;
     while g0 < rows {
         let valid = 8.min(rows - g0);
@@ -363,26 +366,23 @@ fn chunk_kernel<const D: usize>(
                 ui[..valid].copy_from_slice(&stored[g0..g0 + valid]);
             }
         }
-        for ((ui, r), ((aw, a1), a2)) in us
-            .iter()
-            .zip(&references)
-            .zip(acc_w.iter_mut().zip(acc1.iter_mut()).zip(acc2.iter_mut()))
-        {
-            let w = lanes_weight(ui, m);
-            lanes_add(aw, &w);
-            let mut e = [[0.0f64; 8]; D];
-            let mut we = [[0.0f64; 8]; D];
-            for j in 0..d {
-                lanes_minus(&mut e[j], &z[j], r[j]);
-                lanes_mul(&mut we[j], &w, &e[j]);
-                lanes_add(&mut a1[j], &we[j]);
-            }
-            for j in 0..d {
-                let row = &mut a2[j];
-                for l in 0..j + 1 {
-                    lanes_fma(&mut row[l], &we[j], &e[l]);
-                }
-            }
+        // Buffer BATCH groups, then fold them into the accumulators with one load and store of
+        // each accumulator (the second moments dominate the memory traffic).
+        z_buf[pending] = z;
+        us_buf[pending * c..(pending + 1) * c].copy_from_slice(&us);
+        pending += 1;
+        if pending == BATCH || g0 + 8 >= rows {
+            accumulate::<D>(
+                d,
+                m,
+                &z_buf[..pending],
+                &us_buf[..pending * c],
+                &references,
+                &mut acc_w,
+                &mut acc1,
+                &mut acc2,
+            );
+            pending = 0;
         }
         g0 += 8;
     }
@@ -405,6 +405,55 @@ fn chunk_kernel<const D: usize>(
         sums,
         objective: reduce(&objective),
         max_change: max_change.iter().copied().fold(0.0, f64::max),
+    }
+}
+
+/// Groups of eight rows folded into the accumulators at once.
+const BATCH: usize = 4;
+
+/// Folds up to [`BATCH`] buffered groups into the weighted sums of every regime.
+#[inline(always)]
+#[allow(clippy::too_many_arguments)]
+fn accumulate<const D: usize>(
+    d: usize,
+    m: f64,
+    z: &[[Lanes; D]],
+    us: &[Lanes],
+    references: &[[f64; D]],
+    acc_w: &mut [Lanes],
+    acc1: &mut [[Lanes; D]],
+    acc2: &mut [[[Lanes; D]; D]],
+) {
+    let c = references.len();
+    let groups = z.len();
+    for (i, ((r, aw), (a1, a2))) in references
+        .iter()
+        .zip(acc_w.iter_mut())
+        .zip(acc1.iter_mut().zip(acc2.iter_mut()))
+        .enumerate()
+    {
+        let mut e = [[[0.0f64; 8]; D]; BATCH];
+        let mut we = [[[0.0f64; 8]; D]; BATCH];
+        for g in 0..groups {
+            let w = lanes_weight(&us[g * c + i], m);
+            lanes_add(aw, &w);
+            for j in 0..d {
+                lanes_minus(&mut e[g][j], &z[g][j], r[j]);
+                lanes_mul(&mut we[g][j], &w, &e[g][j]);
+                lanes_add(&mut a1[j], &we[g][j]);
+            }
+        }
+        for j in 0..d {
+            let row = &mut a2[j];
+            for l in 0..j + 1 {
+                let mut t = [0.0f64; 8];
+                lanes_mul(&mut t, &we[0][j], &e[0][l]);
+                for g in 1..groups {
+                    lanes_fma(&mut t, &we[g][j], &e[g][l]);
+                }
+                lanes_add(&mut row[l], &t);
+            }
+        }
     }
 }
 
