@@ -11,6 +11,7 @@ pub mod analysis;
 pub mod config;
 pub mod duration;
 pub mod error;
+pub mod identify;
 pub mod output;
 pub mod prepare;
 pub mod regimes;
