@@ -93,6 +93,11 @@ pub fn step_timing(b: &[(usize, f64)], a: &[f64]) -> Option<(f64, f64)> {
         }
         y.push(v);
         let frac = v / fin;
+        let prev_frac = if k > 0 { y[k - 1] / fin } else { 0.0 };
+        if dead.is_none() && prev_frac <= 0.02 && frac >= 0.632_120_558_8 {
+            // The whole rise happens within one sample (a pure delay): dead time k, no lag.
+            return Some((k as f64, 0.0));
+        }
         if dead.is_none() && frac > 0.02 {
             // Interpolate the crossing between k−1 and k.
             let prev = if k > 0 { y[k - 1] / fin } else { 0.0 };
@@ -227,5 +232,10 @@ mod tests {
         let (dead, t) = step_timing(&[(0, 1.0)], &[]).expect("responds");
         assert!(dead <= 0.0 + 1e-12 && t <= 1e-12);
         assert!(step_timing(&[], &[]).is_none());
+    }
+
+    #[test]
+    fn a_pure_delay_has_that_dead_time_and_no_lag() {
+        assert_eq!(step_timing(&[(4, 0.7)], &[]), Some((4.0, 0.0)));
     }
 }

@@ -107,6 +107,118 @@ pub struct RawConfig {
     pub target: RawTarget,
     /// The cheap, frequent measurements the estimate is computed from.
     pub inputs: Vec<RawInput>,
+    /// Regime clustering.
+    #[serde(default)]
+    pub regimes: RawRegimes,
+    /// Regressor structure search.
+    #[serde(default)]
+    pub structure: RawStructure,
+    /// The time split for honest validation.
+    #[serde(default)]
+    pub validation: RawValidation,
+    /// Settings the runtime applies (substitution, lab bias update).
+    #[serde(default)]
+    pub runtime: RawRuntime,
+}
+
+/// How many regimes: a number or `auto`.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub enum RegimeCount {
+    /// Chosen by the validity rule over `count-range`.
+    Auto,
+    /// Fixed.
+    Fixed(usize),
+}
+
+impl<'de> Deserialize<'de> for RegimeCount {
+    fn deserialize<D: serde::Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        #[derive(Deserialize)]
+        #[serde(untagged)]
+        enum Raw {
+            Number(usize),
+            Text(String),
+        }
+        match Raw::deserialize(d)? {
+            Raw::Number(n) => Ok(RegimeCount::Fixed(n)),
+            Raw::Text(t) if t == "auto" => Ok(RegimeCount::Auto),
+            Raw::Text(t) => Err(serde::de::Error::custom(format!(
+                "`{t}` is not a regime count: write a number or `auto`"
+            ))),
+        }
+    }
+}
+
+/// The `regimes` section.
+#[derive(Debug, Clone, Default, Deserialize)]
+#[serde(deny_unknown_fields, rename_all = "kebab-case")]
+pub struct RawRegimes {
+    /// `auto` (default) or a number.
+    pub count: Option<RegimeCount>,
+    /// Range searched by `auto` (default [2, 6]).
+    pub count_range: Option<[usize; 2]>,
+    /// Scheduling variables (input tags); default all inputs.
+    pub variables: Option<Vec<String>>,
+    /// Cluster in the product space of the variables and the target (default false).
+    pub include_target: Option<bool>,
+    /// Fuzziness m (default 2).
+    pub fuzziness: Option<f64>,
+    /// Babuška shrinkage γ (default 0.01).
+    pub shrinkage: Option<f64>,
+    /// Eigenvalue-ratio cap β (default 1e15).
+    pub max_condition: Option<f64>,
+    /// Starts per count (default 3).
+    pub restarts: Option<usize>,
+    /// Seed (default 1).
+    pub seed: Option<u64>,
+    /// Share of training samples allowed below the trained-domain threshold (default 0.01).
+    pub domain_quantile: Option<f64>,
+}
+
+/// How the local models are estimated.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Deserialize, serde::Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Estimation {
+    /// Weighted least squares per regime (interpretable local models).
+    #[default]
+    Local,
+    /// One least-squares problem for the blend (accuracy).
+    Global,
+}
+
+/// The `structure` section.
+#[derive(Debug, Clone, Default, Deserialize)]
+#[serde(deny_unknown_fields, rename_all = "kebab-case")]
+pub struct RawStructure {
+    /// Largest input lag (dead time + order) searched, default 30 × sample-time; per input override.
+    pub max_lag: Option<Span>,
+    /// Largest output lag in samples (analyzer targets only; default 2 for analyzers, 0 for lab).
+    pub max_output_lag: Option<usize>,
+    /// `local` (default) or `global`.
+    pub estimation: Option<Estimation>,
+    /// Relative validation improvement needed to add a regressor (default 0.01).
+    pub min_improvement: Option<f64>,
+}
+
+/// The `validation` section.
+#[derive(Debug, Clone, Default, Deserialize)]
+#[serde(deny_unknown_fields, rename_all = "kebab-case")]
+pub struct RawValidation {
+    /// Share of the time span at the end kept for the final test (default 0.25).
+    pub test_share: Option<f64>,
+}
+
+/// The `runtime` section.
+#[derive(Debug, Clone, Default, Deserialize)]
+#[serde(deny_unknown_fields, rename_all = "kebab-case")]
+pub struct RawRuntime {
+    /// How long an invalid input is replaced by its last good value (default 5 × sample-time).
+    pub hold_limit: Option<Span>,
+    /// Oldest lab result the bias update accepts (default: lab delay + 2 h, or 4 h).
+    pub lab_window: Option<Span>,
+    /// Bias filter gain in (0, 1] (default 0.3).
+    pub bias_gain: Option<f64>,
+    /// Lab residuals beyond this many residual SDs are rejected (default 3).
+    pub outlier_k: Option<f64>,
 }
 
 /// The `data` section.
@@ -156,6 +268,9 @@ pub struct RawInput {
     /// Per-tag override of `screening.frozen-after`.
     #[serde(default)]
     pub frozen_after: Option<Span>,
+    /// Per-tag override of `structure.max-lag`.
+    #[serde(default)]
+    pub max_lag: Option<Span>,
 }
 
 /// The `target` section.
@@ -274,6 +389,49 @@ pub struct Screening {
     pub spike_threshold: f64,
 }
 
+/// Checked modelling settings.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct Modelling {
+    /// Regime count.
+    pub count: RegimeCount,
+    /// Range for `auto`.
+    pub count_range: (usize, usize),
+    /// Indices (into `inputs`) of the scheduling variables.
+    pub variables: Vec<usize>,
+    /// Product-space clustering.
+    pub include_target: bool,
+    /// Fuzziness.
+    pub fuzziness: f64,
+    /// Shrinkage γ.
+    pub shrinkage: f64,
+    /// Eigenvalue cap β.
+    pub max_condition: f64,
+    /// Starts.
+    pub restarts: usize,
+    /// Seed.
+    pub seed: u64,
+    /// Trained-domain quantile.
+    pub domain_quantile: f64,
+    /// Largest lag per input, samples.
+    pub max_lag: Vec<usize>,
+    /// Largest output lag, samples.
+    pub max_output_lag: usize,
+    /// Local or global estimation.
+    pub estimation: Estimation,
+    /// Stepwise entry threshold.
+    pub min_improvement: f64,
+    /// Test share.
+    pub test_share: f64,
+    /// Substitution hold, samples.
+    pub hold_limit: u16,
+    /// Lab window, samples.
+    pub lab_window: u16,
+    /// Bias gain.
+    pub bias_gain: f64,
+    /// Outlier threshold.
+    pub outlier_k: f64,
+}
+
 /// The checked config, with paths resolved against the config's folder.
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
 pub struct Config {
@@ -295,6 +453,8 @@ pub struct Config {
     pub target: TargetSpec,
     /// The inputs.
     pub inputs: Vec<TagSpec>,
+    /// Regimes, structure, validation and runtime settings.
+    pub modelling: Modelling,
 }
 
 impl Config {
@@ -511,7 +671,15 @@ impl RawConfig {
                 "applies only with `transform: logit`".into(),
             ));
         }
+        let modelling = self.modelling(
+            &inputs,
+            &invalid,
+            ts,
+            t.source,
+            lab.as_ref().map(|l| l.delay),
+        )?;
         Ok(Config {
+            modelling,
             files: self.data.files.iter().map(|f| base.join(f)).collect(),
             timestamp: self.data.timestamp,
             delimiter: self.data.delimiter as u8,
@@ -531,6 +699,200 @@ impl RawConfig {
                 full_scale,
             },
             inputs,
+        })
+    }
+}
+
+impl RawConfig {
+    fn modelling(
+        &self,
+        inputs: &[TagSpec],
+        invalid: &dyn Fn(&str, String) -> ConfigError,
+        ts: Span,
+        source: TargetSource,
+        lab_delay: Option<Span>,
+    ) -> Result<Modelling, ConfigError> {
+        let r = &self.regimes;
+        let count = r.count.clone().unwrap_or(RegimeCount::Auto);
+        if let RegimeCount::Fixed(n) = count {
+            if !(2..=regimix_format::limits::MAX_REGIMES).contains(&n) {
+                return Err(invalid(
+                    "regimes.count",
+                    format!(
+                        "{n} must be between 2 and {}",
+                        regimix_format::limits::MAX_REGIMES
+                    ),
+                ));
+            }
+        }
+        let [lo, hi] = r.count_range.unwrap_or([2, 6]);
+        if !(2 <= lo && lo <= hi && hi <= regimix_format::limits::MAX_REGIMES) {
+            return Err(invalid(
+                "regimes.count-range",
+                format!(
+                    "[{lo}, {hi}] must satisfy 2 ≤ low ≤ high ≤ {}",
+                    regimix_format::limits::MAX_REGIMES
+                ),
+            ));
+        }
+        let variables = match &r.variables {
+            None => (0..inputs.len()).collect(),
+            Some(names) => {
+                let mut idx = Vec::new();
+                for name in names {
+                    match inputs.iter().position(|t| &t.tag == name) {
+                        Some(j) => idx.push(j),
+                        None => {
+                            let close = nearest(name, inputs.iter().map(|t| t.tag.as_str()), 3);
+                            return Err(invalid(
+                                "regimes.variables",
+                                format!(
+                                    "`{name}` is not an input{}",
+                                    if close.is_empty() {
+                                        String::new()
+                                    } else {
+                                        format!("; did you mean {}?", quote_list(&close))
+                                    }
+                                ),
+                            ));
+                        }
+                    }
+                }
+                idx
+            }
+        };
+        if variables.is_empty() || variables.len() > regimix_format::limits::MAX_ANTECEDENT {
+            return Err(invalid(
+                "regimes.variables",
+                format!(
+                    "must name 1 to {} inputs",
+                    regimix_format::limits::MAX_ANTECEDENT
+                ),
+            ));
+        }
+        let fuzziness = r.fuzziness.unwrap_or(2.0);
+        if !(fuzziness > 1.0 && fuzziness <= 10.0) {
+            return Err(invalid(
+                "regimes.fuzziness",
+                format!("{fuzziness} must be above 1 (2 is usual)"),
+            ));
+        }
+        let shrinkage = r.shrinkage.unwrap_or(0.01);
+        if !(0.0..=1.0).contains(&shrinkage) {
+            return Err(invalid(
+                "regimes.shrinkage",
+                format!("{shrinkage} must be between 0 and 1"),
+            ));
+        }
+        let max_condition = r.max_condition.unwrap_or(1e15);
+        if !(max_condition >= 1.0) {
+            return Err(invalid(
+                "regimes.max-condition",
+                format!("{max_condition} must be at least 1"),
+            ));
+        }
+        let restarts = r.restarts.unwrap_or(3);
+        if restarts == 0 {
+            return Err(invalid("regimes.restarts", "must be at least 1".into()));
+        }
+        let domain_quantile = r.domain_quantile.unwrap_or(0.01);
+        if !(0.0..0.5).contains(&domain_quantile) {
+            return Err(invalid(
+                "regimes.domain-quantile",
+                format!("{domain_quantile} must be in [0, 0.5)"),
+            ));
+        }
+        let st = &self.structure;
+        let default_lag = st.max_lag.unwrap_or(Span::from_micros(30 * ts.micros()));
+        let max_lag: Vec<usize> = self
+            .inputs
+            .iter()
+            .map(|i| i.max_lag.unwrap_or(default_lag).whole_steps(ts) as usize)
+            .collect();
+        if max_lag.iter().any(|l| *l > regimix_format::limits::MAX_LAG) {
+            return Err(invalid(
+                "structure.max-lag",
+                format!("is longer than {} samples", regimix_format::limits::MAX_LAG),
+            ));
+        }
+        let max_output_lag = match (source, st.max_output_lag) {
+            (TargetSource::Lab, Some(n)) if n > 0 => {
+                return Err(invalid(
+                    "structure.max-output-lag",
+                    format!("{n} needs a frequent target: lab results are too sparse to feed back; use 0 (a static/FIR model) or an analyzer target"),
+                ))
+            }
+            (TargetSource::Lab, _) => 0,
+            (TargetSource::Analyzer, n) => n.unwrap_or(2),
+        };
+        let min_improvement = st.min_improvement.unwrap_or(0.01);
+        if !(0.0..0.5).contains(&min_improvement) {
+            return Err(invalid(
+                "structure.min-improvement",
+                format!("{min_improvement} must be in [0, 0.5)"),
+            ));
+        }
+        let test_share = self.validation.test_share.unwrap_or(0.25);
+        if !(0.05..=0.5).contains(&test_share) {
+            return Err(invalid(
+                "validation.test-share",
+                format!("{test_share} must be between 0.05 and 0.5"),
+            ));
+        }
+        let rt = &self.runtime;
+        let hold = rt
+            .hold_limit
+            .unwrap_or(Span::from_micros(5 * ts.micros()))
+            .whole_steps(ts);
+        let window = rt
+            .lab_window
+            .unwrap_or(Span::from_micros(
+                lab_delay.map_or(4 * 3_600_000_000, |d| d.micros() + 2 * 3_600_000_000),
+            ))
+            .whole_steps(ts);
+        if hold > i64::from(u16::MAX) || window as usize > regimix_format::limits::MAX_LAB_WINDOW {
+            return Err(invalid(
+                "runtime",
+                format!(
+                    "hold-limit and lab-window must be at most {} samples",
+                    regimix_format::limits::MAX_LAB_WINDOW
+                ),
+            ));
+        }
+        let bias_gain = rt.bias_gain.unwrap_or(0.3);
+        if !(bias_gain > 0.0 && bias_gain <= 1.0) {
+            return Err(invalid(
+                "runtime.bias-gain",
+                format!("{bias_gain} must be in (0, 1]"),
+            ));
+        }
+        let outlier_k = rt.outlier_k.unwrap_or(3.0);
+        if !(outlier_k > 0.0) {
+            return Err(invalid(
+                "runtime.outlier-k",
+                format!("{outlier_k} must be positive"),
+            ));
+        }
+        Ok(Modelling {
+            count,
+            count_range: (lo, hi),
+            variables,
+            include_target: r.include_target.unwrap_or(false),
+            fuzziness,
+            shrinkage,
+            max_condition,
+            restarts,
+            seed: r.seed.unwrap_or(1),
+            domain_quantile,
+            max_lag,
+            max_output_lag,
+            estimation: st.estimation.unwrap_or_default(),
+            min_improvement,
+            test_share,
+            hold_limit: hold as u16,
+            lab_window: window as u16,
+            bias_gain,
+            outlier_k,
         })
     }
 }

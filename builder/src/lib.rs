@@ -8,13 +8,16 @@
 //! The command-line tool `regimix` (in `main.rs`) is a thin layer over these modules.
 
 pub mod analysis;
+pub mod build;
 pub mod config;
 pub mod duration;
 pub mod error;
+pub mod export;
 pub mod identify;
 pub mod output;
 pub mod prepare;
 pub mod regimes;
 pub mod replay;
+pub mod report;
 pub mod suggest;
 pub mod timestamp;

@@ -41,6 +41,37 @@ pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), OutputError> {
     result.map_err(err)
 }
 
+/// Writes several files into `dir` so that either all are replaced or none: every file goes to a
+/// temporary name first; only when all are written are they renamed into place.
+pub fn write_all_atomic(dir: &Path, files: &[(&str, &[u8])]) -> Result<(), OutputError> {
+    let err = |path: PathBuf| move |source| OutputError { path, source };
+    std::fs::create_dir_all(dir).map_err(err(dir.to_path_buf()))?;
+    let mut temps = Vec::with_capacity(files.len());
+    for (name, bytes) in files {
+        let temp = dir.join(format!(".{name}.{}.tmp", std::process::id()));
+        let result = (|| {
+            let mut f = std::fs::File::create(&temp)?;
+            f.write_all(bytes)?;
+            f.sync_all()
+        })();
+        if let Err(source) = result {
+            let _ = std::fs::remove_file(&temp);
+            for (t, _) in &temps {
+                let _ = std::fs::remove_file(t);
+            }
+            return Err(OutputError {
+                path: dir.join(name),
+                source,
+            });
+        }
+        temps.push((temp, dir.join(name)));
+    }
+    for (temp, path) in &temps {
+        std::fs::rename(temp, path).map_err(err(path.clone()))?;
+    }
+    Ok(())
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

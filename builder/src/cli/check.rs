@@ -1,6 +1,5 @@
 //! `regimix check CONFIG [--json]`.
 
-use std::io::Write;
 use std::path::Path;
 
 use anyhow::Context;
@@ -11,12 +10,10 @@ use regimix_builder::prepare::prepare;
 pub fn run(config_path: &Path, json: bool) -> anyhow::Result<()> {
     let config = Config::load(config_path)?;
     let prepared = prepare(&config)?;
-    let mut out = std::io::stdout().lock();
-    if json {
-        serde_json::to_writer_pretty(&mut out, &prepared.audit).context("writing JSON")?;
-        writeln!(out)?;
+    let text = if json {
+        serde_json::to_string_pretty(&prepared.audit).context("writing JSON")? + "\n"
     } else {
-        write!(out, "{}", prepared.audit)?;
-    }
-    Ok(())
+        prepared.audit.to_string()
+    };
+    super::print_out(&text)
 }

@@ -104,8 +104,14 @@ pub fn run(path: &Path, json: bool) -> anyhow::Result<()> {
     let model = ModelView::parse(&bytes).with_context(|| format!("{}", path.display()))?;
     let s = summary(&model);
     if json {
-        println!("{}", serde_json::to_string_pretty(&s)?);
-        return Ok(());
+        return super::print_out(&(serde_json::to_string_pretty(&s)? + "\n"));
+    }
+    let mut out = String::new();
+    macro_rules! println {
+        ($($arg:tt)*) => {{
+            use std::fmt::Write as _;
+            let _ = writeln!(out, $($arg)*);
+        }};
     }
     println!(
         "Model {} (format 1, builder {})",
@@ -179,5 +185,5 @@ pub fn run(path: &Path, json: bool) -> anyhow::Result<()> {
             );
         }
     }
-    Ok(())
+    super::print_out(&out)
 }

@@ -1,6 +1,8 @@
 //! Command-line interface: one module per subcommand over the library.
 
+mod build;
 mod check;
+mod demo;
 mod inspect;
 mod replay;
 
@@ -27,6 +29,29 @@ enum Command {
         /// Print machine-readable JSON instead of text.
         #[arg(long)]
         json: bool,
+    },
+    /// Run the whole job on the bundled demo plant (an invented distillation column): build,
+    /// validate and report.
+    Demo {
+        /// Output folder.
+        #[arg(long, default_value = "regimix-demo")]
+        out: PathBuf,
+        /// No progress lines on stderr.
+        #[arg(long)]
+        quiet: bool,
+    },
+    /// Build a soft sensor: prepare the data, find regimes, select lags and dead times, fit and
+    /// validate through the runtime; writes model.rgmx, model.yaml, report.html, validation.csv
+    /// and summary.json.
+    Build {
+        /// The YAML project config.
+        config: PathBuf,
+        /// Output folder (created if needed; files replaced atomically).
+        #[arg(long, default_value = "out")]
+        out: PathBuf,
+        /// No progress lines on stderr.
+        #[arg(long)]
+        quiet: bool,
     },
     /// Run a model file over a CSV of inputs: per row the estimate, status flags, typicality and
     /// regime weights, exactly as the runtime computes them.
@@ -56,10 +81,22 @@ enum Command {
     },
 }
 
+/// Writes `text` to stdout; a reader that went away (`| head`) ends the output quietly.
+pub fn print_out(text: &str) -> anyhow::Result<()> {
+    use std::io::Write;
+    let mut out = std::io::stdout().lock();
+    match out.write_all(text.as_bytes()).and_then(|()| out.flush()) {
+        Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => Ok(()),
+        other => Ok(other?),
+    }
+}
+
 /// Runs the parsed command.
 pub fn run(cli: Cli) -> anyhow::Result<()> {
     match cli.command {
         Command::Check { config, json } => check::run(&config, json),
+        Command::Build { config, out, quiet } => build::run(&config, &out, quiet),
+        Command::Demo { out, quiet } => demo::run(&out, quiet),
         Command::Replay {
             model,
             data,

@@ -30,7 +30,7 @@ pub fn run(
             write_atomic(path, text.as_bytes())?;
             eprintln!("wrote {} rows to {}", replayed.len(), path.display());
         }
-        None => print!("{text}"),
+        None => super::print_out(&text)?,
     }
     Ok(())
 }

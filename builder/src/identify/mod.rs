@@ -21,6 +21,7 @@
 
 pub mod design;
 pub mod gains;
+pub mod global;
 pub mod stepwise;
 pub mod wls;
 

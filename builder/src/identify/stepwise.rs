@@ -250,7 +250,13 @@ pub enum SelectionError {
     },
     /// No structure could be fitted.
     #[error("no regressor structure could be fitted: {0}")]
-    Fit(#[from] FitError),
+    Fit(FitError),
+}
+
+impl From<FitError> for SelectionError {
+    fn from(e: FitError) -> Self {
+        SelectionError::Fit(e)
+    }
 }
 
 /// Chooses the structure and fits every regime. `weights[i][k]` is regime `i`'s membership of row

@@ -1,0 +1,520 @@
+//! `regimix build`: prepare → regimes → structure → local models → model file → validation
+//! through the runtime on the encoded bytes.
+//!
+//! The last `test-share` of the time span is the test block. Nothing in it is used for
+//! clustering, structure selection or fitting; a gap of the largest lag separates it from the
+//! training rows. Metrics are computed on it from the runtime's estimates, so what is validated
+//! is exactly what runs.
+
+use regimix_format::encode::{InputSpec, ModelSpec, RegimeSpec};
+use regimix_format::transform::Transform;
+use regimix_format::{InputSettings, Regressor, Source, TargetSettings};
+use regimix_runtime::Status;
+
+use crate::config::{Config, Estimation, RegimeCount};
+use crate::error::DataError;
+use crate::identify::global::{fit_baseline, fit_global};
+use crate::identify::stepwise::{predict, select, SelectionError, Step, StructureParams};
+use crate::identify::wls::{Fit, FitError};
+use crate::identify::{design, Term};
+use crate::prepare::{prepare, CellStatus, Prepared};
+use crate::regimes::antecedent::Antecedent;
+use crate::regimes::covariance::Regularization;
+use crate::regimes::kernel::Columns;
+use crate::regimes::scaling::Scaling;
+use crate::regimes::validity::{choose_count, measures, sweep, Validity};
+use crate::regimes::{cluster, Partition, RegimeError, RegimeParams};
+use crate::replay::{replay, ReplayRow};
+
+/// Why a build failed.
+#[derive(Debug, thiserror::Error)]
+pub enum BuildError {
+    /// Reading or preparing the data.
+    #[error(transparent)]
+    Data(#[from] DataError),
+    /// A regime with too little data for its parameters.
+    #[error("regime {regime} of {count} has only {samples:.0} effective training samples for {parameters} parameters (at least {needed} needed); use fewer regimes (`regimes.count`) or more data")]
+    RegimeTooThin {
+        /// Regime number (1-based).
+        regime: usize,
+        /// Regimes.
+        count: usize,
+        /// Effective samples (Σ μ^m).
+        samples: f64,
+        /// Parameters per regime.
+        parameters: usize,
+        /// Needed.
+        needed: usize,
+    },
+    /// The target has no usable value.
+    #[error("the target `{0}` has no usable values (all missing, bad, or outside the transform's domain)")]
+    TargetAllMissing(String),
+    /// An input that does not vary on the training rows.
+    #[error("input `{0}` is constant over the training data: it carries no information; remove it from `inputs`")]
+    ConstantInput(String),
+    /// Too little data for the model asked for.
+    #[error("{0}")]
+    TooLittleData(String),
+    /// Clustering.
+    #[error("regime clustering: {0}")]
+    Regimes(RegimeError),
+    /// Structure selection.
+    #[error("structure selection: {0}")]
+    Selection(SelectionError),
+    /// A least-squares fit.
+    #[error("fitting: {0}")]
+    Fit(FitError),
+    /// Writing the model file.
+    #[error("model file: {0}")]
+    Encode(regimix_format::encode::EncodeError),
+    /// Replaying the model file.
+    #[error("validation: {0}")]
+    Replay(regimix_format::DecodeError),
+}
+
+// Conversions without `source`: the messages above already include the inner error, so a
+// printed error chain does not repeat it.
+impl From<RegimeError> for BuildError {
+    fn from(e: RegimeError) -> Self {
+        BuildError::Regimes(e)
+    }
+}
+impl From<SelectionError> for BuildError {
+    fn from(e: SelectionError) -> Self {
+        BuildError::Selection(e)
+    }
+}
+impl From<FitError> for BuildError {
+    fn from(e: FitError) -> Self {
+        BuildError::Fit(e)
+    }
+}
+impl From<regimix_format::encode::EncodeError> for BuildError {
+    fn from(e: regimix_format::encode::EncodeError) -> Self {
+        BuildError::Encode(e)
+    }
+}
+impl From<regimix_format::DecodeError> for BuildError {
+    fn from(e: regimix_format::DecodeError) -> Self {
+        BuildError::Replay(e)
+    }
+}
+
+/// Accuracy on a set of rows, engineering units.
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
+pub struct Metrics {
+    /// Samples scored.
+    pub samples: usize,
+    /// Root-mean-square error.
+    pub rmse: f64,
+    /// Mean absolute error.
+    pub mae: f64,
+    /// Coefficient of determination.
+    pub r2: f64,
+    /// Mean of estimate − measured.
+    pub bias: f64,
+}
+
+/// Scores `pairs` of (measured, estimate).
+pub fn metrics(pairs: &[(f64, f64)]) -> Metrics {
+    let n = pairs.len().max(1) as f64;
+    let mean_y = pairs.iter().map(|p| p.0).sum::<f64>() / n;
+    let sse: f64 = pairs.iter().map(|(y, e)| (e - y).powi(2)).sum();
+    let sst: f64 = pairs.iter().map(|(y, _)| (y - mean_y).powi(2)).sum();
+    Metrics {
+        samples: pairs.len(),
+        rmse: (sse / n).sqrt(),
+        mae: pairs.iter().map(|(y, e)| (e - y).abs()).sum::<f64>() / n,
+        r2: if sst > 0.0 { 1.0 - sse / sst } else { f64::NAN },
+        bias: pairs.iter().map(|(y, e)| e - y).sum::<f64>() / n,
+    }
+}
+
+/// Everything a build produced.
+#[derive(Debug, Clone)]
+pub struct Built {
+    /// Prepared data and its audit.
+    pub prepared: Prepared,
+    /// The model, owned.
+    pub spec: ModelSpec,
+    /// The model file.
+    pub bytes: Vec<u8>,
+    /// Runtime estimates for every grid row.
+    pub estimates: Vec<ReplayRow>,
+    /// First row of the test block.
+    pub test_start: usize,
+    /// Validity measures by regime count (empty for a fixed count's single entry).
+    pub validity: Vec<Validity>,
+    /// The clustering partition (scaled space).
+    pub partition: Partition,
+    /// Selected terms.
+    pub terms: Vec<Term>,
+    /// Local fits (model domain).
+    pub fits: Vec<Fit>,
+    /// Stepwise path.
+    pub path: Vec<Step>,
+    /// Blended model on the test block.
+    pub test: Metrics,
+    /// Global linear baseline on the same test rows.
+    pub baseline: Metrics,
+    /// Share of test samples flagged out of the trained domain.
+    pub out_of_domain: f64,
+    /// Baseline estimates (units) on the test rows, for plots: (row, estimate).
+    pub baseline_estimates: Vec<(usize, f64)>,
+    /// Training rows used for fitting.
+    pub training_rows: usize,
+}
+
+fn column_stats(values: impl Iterator<Item = f64>) -> (f64, f64, f64, f64) {
+    let v: Vec<f64> = values.filter(|x| x.is_finite()).collect();
+    let n = v.len().max(1) as f64;
+    let mean = v.iter().sum::<f64>() / n;
+    let std = (v.iter().map(|x| (x - mean).powi(2)).sum::<f64>() / n).sqrt();
+    let lo = v.iter().copied().fold(f64::INFINITY, f64::min);
+    let hi = v.iter().copied().fold(f64::NEG_INFINITY, f64::max);
+    (mean, std, lo, hi)
+}
+
+/// Runs the whole job for a checked config. `progress` receives one line per stage.
+pub fn build(config: &Config, progress: &dyn Fn(&str)) -> Result<Built, BuildError> {
+    let m = &config.modelling;
+    progress("preparing data");
+    let prepared = prepare(config)?;
+    let ds = &prepared.dataset;
+    let n = ds.grid.len;
+    let target_tag = config.target.spec.tag.clone();
+    if ds.usable_target_rows() == 0 {
+        return Err(BuildError::TargetAllMissing(target_tag));
+    }
+    let test_start = n - ((n as f64) * m.test_share) as usize;
+    let p = config.inputs.len();
+    let inputs: Vec<Vec<f64>> = (0..p).map(|j| ds.inputs.column(j).to_vec()).collect();
+    let gap = m
+        .max_lag
+        .iter()
+        .copied()
+        .max()
+        .unwrap_or(0)
+        .max(m.max_output_lag)
+        + 1;
+    let train_end = test_start.saturating_sub(gap);
+    for (j, spec) in config.inputs.iter().enumerate() {
+        let (_, std, _, _) = column_stats(inputs[j][..train_end].iter().copied());
+        if !(std > spec.resolution.max(1e-12)) {
+            return Err(BuildError::ConstantInput(spec.tag.clone()));
+        }
+    }
+
+    // Regimes on the scheduling variables (and the target, in product space), training rows only.
+    progress("clustering operating regimes");
+    let vars = &m.variables;
+    let target_model = &ds.target_model;
+    let rows: Vec<usize> = (0..train_end)
+        .filter(|&k| {
+            vars.iter().all(|&j| inputs[j][k].is_finite())
+                && (!m.include_target || target_model[k].is_finite())
+        })
+        .collect();
+    let dim = vars.len() + usize::from(m.include_target);
+    let mut raw = Vec::with_capacity(rows.len() * dim);
+    for &k in &rows {
+        raw.extend(vars.iter().map(|&j| inputs[j][k]));
+        if m.include_target {
+            raw.push(target_model[k]);
+        }
+    }
+    let scaling = Scaling::fit(&raw, dim);
+    for row in raw.chunks_exact_mut(dim) {
+        scaling.apply(row);
+    }
+    let data = Columns::from_rows(&raw, dim);
+    let mut params = RegimeParams::new(2);
+    params.fuzziness = m.fuzziness;
+    params.regularization = Regularization {
+        shrinkage: m.shrinkage,
+        max_condition: m.max_condition,
+    };
+    params.restarts = m.restarts;
+    params.seed = m.seed;
+    let (partition, validity) = match m.count {
+        RegimeCount::Fixed(c) => {
+            params.count = c;
+            let part = cluster(&data, &params)?;
+            let v = measures(&data, &part)?;
+            (part, vec![v])
+        }
+        RegimeCount::Auto => {
+            let table = sweep(&data, m.count_range.0..=m.count_range.1, &params)?;
+            let validity: Vec<Validity> = table.iter().map(|(_, v)| v.clone()).collect();
+            let chosen = choose_count(&validity).unwrap_or(m.count_range.0);
+            let part = table
+                .into_iter()
+                .find(|(p, _)| p.count() == chosen)
+                .map(|(p, _)| p)
+                .ok_or(RegimeError::TooFewRegimes(chosen))?;
+            (part, validity)
+        }
+    };
+    let c = partition.count();
+    let antecedent = Antecedent::project(
+        &partition,
+        &data,
+        &(0..vars.len()).collect::<Vec<_>>(),
+        None,
+        m.domain_quantile,
+    )?;
+
+    // Memberships of every row.
+    let mut weights = vec![vec![0.0; n]; c];
+    let mut selection_target = target_model.clone();
+    let mut x = vec![0.0; vars.len()];
+    for k in 0..n {
+        if vars.iter().all(|&j| inputs[j][k].is_finite()) {
+            for (a, &j) in vars.iter().enumerate() {
+                x[a] = (inputs[j][k] - scaling.means[a]) / scaling.stds[a];
+            }
+            let e = antecedent.evaluate(&x);
+            for i in 0..c {
+                weights[i][k] = e.memberships[i];
+            }
+        } else {
+            selection_target[k] = f64::NAN;
+        }
+        if k >= train_end {
+            selection_target[k] = f64::NAN; // the test block is never seen while fitting
+        }
+    }
+
+    progress("selecting lags and dead times");
+    let mut sp = StructureParams::new(m.max_lag.clone(), m.max_output_lag);
+    sp.min_improvement = m.min_improvement;
+    sp.weight_power = m.fuzziness;
+    let selection = select(&sp, &weights, &inputs, &selection_target)?;
+    let terms = selection.terms.clone();
+    let train_rows = design::usable_rows(&terms, &inputs, &selection_target, 0..train_end);
+    if train_rows.len() < 10 * c * (terms.len() + 1) {
+        return Err(BuildError::TooLittleData(format!(
+            "only {} usable training rows for {c} regimes × {} parameters; use fewer regimes or inputs, or more data",
+            train_rows.len(),
+            terms.len() + 1
+        )));
+    }
+    // Every regime needs enough data of its own for its parameters.
+    let parameters = terms.len() + 1;
+    let needed = 10 * parameters;
+    for (i, w) in weights.iter().enumerate() {
+        let samples: f64 = train_rows.iter().map(|&k| w[k].powf(m.fuzziness)).sum();
+        if samples < needed as f64 {
+            return Err(BuildError::RegimeTooThin {
+                regime: i + 1,
+                count: c,
+                samples,
+                parameters,
+                needed,
+            });
+        }
+    }
+    let fits = match m.estimation {
+        Estimation::Local => selection.fits.clone(),
+        Estimation::Global => fit_global(
+            &terms,
+            &weights,
+            &inputs,
+            &selection_target,
+            &train_rows,
+            selection.ridge.max(1e-10),
+        )?,
+    };
+    progress("fitting the global linear baseline");
+    let baseline_fit = fit_baseline(
+        &terms,
+        &inputs,
+        &selection_target,
+        &train_rows,
+        selection.ridge,
+    )?;
+
+    // The model file.
+    progress("writing the model file");
+    let transform = crate::prepare::transform_of(config);
+    let (_, _, tlo, thi) = column_stats(ds.target.iter().copied());
+    let (low, high) = config.target.spec.range.unwrap_or(match transform {
+        Transform::Identity => (tlo - (thi - tlo), thi + (thi - tlo)),
+        Transform::Log => (tlo / 10.0, thi * 10.0),
+        Transform::Logit { full_scale } => (tlo / 10.0, full_scale - (full_scale - thi) / 10.0),
+    });
+    let input_specs: Vec<InputSpec> = config
+        .inputs
+        .iter()
+        .enumerate()
+        .map(|(j, spec)| {
+            let (mean, std, lo, hi) = column_stats(inputs[j][..train_end].iter().copied());
+            let (mean, std) = match vars.iter().position(|&v| v == j) {
+                Some(a) => (scaling.means[a], scaling.stds[a]),
+                None => (mean, std.max(1e-12)),
+            };
+            let (low, high) = spec
+                .range
+                .unwrap_or((lo - 0.1 * (hi - lo), hi + 0.1 * (hi - lo)));
+            InputSpec {
+                tag: spec.tag.clone(),
+                unit: spec.unit.clone(),
+                settings: InputSettings {
+                    low,
+                    high,
+                    mean,
+                    std,
+                },
+            }
+        })
+        .collect();
+    let regimes = (0..c)
+        .map(|i| {
+            let norm = &antecedent.norms[i];
+            let pa = vars.len();
+            RegimeSpec {
+                center: norm.center.clone(),
+                factor: (0..pa)
+                    .flat_map(|r| (0..=r).map(move |col| (r, col)))
+                    .map(|(r, col)| norm.factor[r * pa + col])
+                    .collect(),
+                eta: antecedent.typicality.eta[i],
+                offset: fits[i].theta[0],
+                coefficients: fits[i].theta[1..].to_vec(),
+            }
+        })
+        .collect();
+    let residual_sd = selection.validation_rmse.max(1e-9);
+    let spec = ModelSpec {
+        builder_version: env!("CARGO_PKG_VERSION").to_string(),
+        target_tag,
+        target_unit: config.target.spec.unit.clone(),
+        sample_time: config.sample_time.as_secs_f64(),
+        transform,
+        target: TargetSettings {
+            full_scale: config.target.full_scale,
+            low,
+            high,
+            fuzziness: m.fuzziness,
+            domain_threshold: antecedent.domain_threshold.clamp(0.0, 0.999),
+            residual_sd,
+            bias_gain: m.bias_gain,
+            bias_limit: 5.0 * residual_sd,
+            outlier_k: m.outlier_k,
+        },
+        hold_limit: m.hold_limit,
+        lab_window: m.lab_window,
+        inputs: input_specs,
+        regressors: terms
+            .iter()
+            .map(|t| match *t {
+                Term::Input { input, lag } => Regressor {
+                    source: Source::Input(input as u8),
+                    lag: lag as u16,
+                },
+                Term::Output { lag } => Regressor {
+                    source: Source::Output,
+                    lag: lag as u16,
+                },
+            })
+            .collect(),
+        antecedent: vars.iter().map(|&j| j as u16).collect(),
+        regimes,
+    };
+    let bytes = spec.to_bytes()?;
+
+    // Validation through the runtime, on the encoded bytes.
+    progress("validating through the runtime");
+    let times: Vec<i64> = (0..n).map(|k| ds.time(k)).collect();
+    let rows_in: Vec<Vec<f64>> = (0..n)
+        .map(|k| (0..p).map(|j| inputs[j][k]).collect())
+        .collect();
+    let estimates = replay(&bytes, &times, &rows_in)?;
+    let scored: Vec<usize> = (test_start..n)
+        .filter(|&k| {
+            ds.target_status[k] == CellStatus::Valid
+                && estimates[k].value.is_finite()
+                && estimates[k].status & Status::FALLBACK == 0
+        })
+        .collect();
+    if scored.is_empty() {
+        return Err(BuildError::TooLittleData("the test block has no usable target samples; lower validation.test-share or export more data".into()));
+    }
+    let test = metrics(
+        &scored
+            .iter()
+            .map(|&k| (ds.target[k], estimates[k].value))
+            .collect::<Vec<_>>(),
+    );
+    let ood = (test_start..n)
+        .filter(|&k| estimates[k].status & Status::OUT_OF_DOMAIN != 0)
+        .count() as f64
+        / (n - test_start).max(1) as f64;
+    let ones = vec![vec![1.0; n]];
+    let base_pred: Vec<(usize, f64)> = predict(
+        &terms,
+        std::slice::from_ref(&baseline_fit),
+        &ones,
+        &inputs,
+        target_model,
+        test_start..n,
+    )
+    .into_iter()
+    .map(|(k, z)| (k, transform.inverse(z).clamp(low, high)))
+    .collect();
+    let base_map: std::collections::HashMap<usize, f64> = base_pred.iter().copied().collect();
+    let both: Vec<usize> = scored
+        .iter()
+        .copied()
+        .filter(|k| base_map.contains_key(k))
+        .collect();
+    let baseline = metrics(
+        &both
+            .iter()
+            .map(|&k| (ds.target[k], base_map[&k]))
+            .collect::<Vec<_>>(),
+    );
+    let test = if both.len() == scored.len() {
+        test
+    } else {
+        metrics(
+            &both
+                .iter()
+                .map(|&k| (ds.target[k], estimates[k].value))
+                .collect::<Vec<_>>(),
+        )
+    };
+    Ok(Built {
+        prepared: prepared.clone(),
+        spec,
+        bytes,
+        estimates,
+        test_start,
+        validity,
+        partition,
+        terms,
+        fits,
+        path: selection.path,
+        test,
+        baseline,
+        out_of_domain: ood,
+        baseline_estimates: base_pred,
+        training_rows: train_rows.len(),
+    })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn metrics_of_a_known_error() {
+        let m = metrics(&[(1.0, 2.0), (3.0, 3.0), (5.0, 4.0)]);
+        assert_eq!(m.samples, 3);
+        assert!((m.rmse - (2.0f64 / 3.0).sqrt()).abs() < 1e-15);
+        assert!((m.mae - 2.0 / 3.0).abs() < 1e-15);
+        assert_eq!(m.bias, 0.0);
+        // SST = 8, SSE = 2 → R² = 0.75.
+        assert!((m.r2 - 0.75).abs() < 1e-15);
+    }
+}

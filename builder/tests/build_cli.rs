@@ -1,0 +1,268 @@
+//! `regimix build` and `regimix demo` end to end: outputs, report sections, accuracy against the
+//! linear baseline, determinism, and bad input (one message, exit 2, nothing half-written).
+
+mod common;
+
+use common::{assert_clean_failure, regimix, stamp, write, Lcg};
+
+fn demo_config(dir: &std::path::Path) -> std::path::PathBuf {
+    let root = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("../demo-data");
+    for f in [
+        "c301-export-1.csv",
+        "c301-export-2.csv",
+        "c301-lab.csv",
+        "c301.yaml",
+    ] {
+        std::fs::copy(root.join(f), dir.join(f)).expect("copy demo file");
+    }
+    dir.join("c301.yaml")
+}
+
+#[test]
+fn demo_build_writes_everything_and_beats_the_linear_model() {
+    let dir = tempfile::tempdir().expect("tempdir");
+    let out = regimix(dir.path(), &["demo", "--out", "demo-out", "--quiet"]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let o = dir.path().join("demo-out");
+    for f in [
+        "model.rgmx",
+        "model.yaml",
+        "report.html",
+        "validation.csv",
+        "summary.json",
+    ] {
+        assert!(o.join(f).exists(), "{f} missing");
+    }
+    let summary: serde_json::Value =
+        serde_json::from_slice(&std::fs::read(o.join("summary.json")).expect("summary"))
+            .expect("json");
+    let ratio = summary["rmse_ratio"].as_f64().expect("ratio");
+    assert!(ratio <= 0.6, "blended / linear test RMSE {ratio}");
+    for key in ["regime_count", "regressors", "seed", "builder_version"] {
+        assert!(!summary[key].is_null(), "{key}");
+    }
+    for key in ["rmse", "mae", "r2", "bias", "out_of_domain_fraction"] {
+        assert!(summary["test"][key].is_number(), "test.{key}");
+    }
+    assert!(summary["baseline"]["test"]["rmse"].is_number());
+    let report = std::fs::read_to_string(o.join("report.html")).expect("report");
+    for id in [
+        "comparison",
+        "regimes",
+        "structure",
+        "domain",
+        "data",
+        "cautions",
+    ] {
+        assert!(
+            report.contains(&format!("id=\"{id}\"")),
+            "report section {id}"
+        );
+    }
+    assert!(report.matches("<svg").count() >= 5, "figures");
+    assert!(report.contains("not a safety instrument"));
+    assert!(
+        !report.contains("http://") || report.matches("http://").all(|_| report.contains("xmlns")),
+        "no network references besides SVG namespaces"
+    );
+    let csv = std::fs::read_to_string(o.join("validation.csv")).expect("csv");
+    assert!(csv.starts_with("timestamp,measured,estimate,status,flags,period\n"));
+    let inspect = regimix(dir.path(), &["inspect", "demo-out/model.rgmx", "--json"]);
+    let json: serde_json::Value = serde_json::from_slice(&inspect.stdout).expect("inspect json");
+    assert_eq!(
+        json["regimes"].as_array().expect("regimes").len() as u64,
+        summary["regime_count"].as_u64().expect("count")
+    );
+}
+
+#[test]
+fn same_config_and_seed_give_a_byte_identical_model() {
+    let dir = tempfile::tempdir().expect("tempdir");
+    demo_config(dir.path());
+    for out in ["a", "b"] {
+        let r = regimix(dir.path(), &["build", "c301.yaml", "--out", out, "--quiet"]);
+        assert!(r.status.success(), "{}", String::from_utf8_lossy(&r.stderr));
+    }
+    let a = std::fs::read(dir.path().join("a/model.rgmx")).expect("a");
+    let b = std::fs::read(dir.path().join("b/model.rgmx")).expect("b");
+    assert_eq!(a, b);
+}
+
+/// A small plant: y follows x1 with a delay; x2 is noise; 3000 one-minute rows.
+fn small_plant(dir: &std::path::Path, edit: impl Fn(usize, &mut Vec<String>)) {
+    let mut rng = Lcg(9);
+    let mut csv = String::from("time,X1,X2,Y\n");
+    let mut x1 = 0.0;
+    let mut y = 0.0;
+    for k in 0..3000 {
+        if k % 37 == 0 {
+            x1 = 50.0 + 10.0 * rng.next();
+        }
+        y = 0.9 * y + 0.1 * (0.02 * x1 * x1) + 0.01 * rng.next();
+        let mut row = vec![
+            stamp(k),
+            format!("{x1:.3}"),
+            format!("{:.3}", 20.0 + rng.next()),
+            format!("{y:.4}"),
+        ];
+        edit(k, &mut row);
+        csv.push_str(&row.join(","));
+        csv.push('\n');
+    }
+    write(dir, "plant.csv", &csv);
+}
+
+const SMALL: &str = "
+data: { files: [plant.csv], timestamp: time }
+sample-time: 1min
+target: { tag: Y, source: analyzer }
+inputs:
+  - { tag: X1 }
+  - { tag: X2 }
+structure: { max-lag: 5min }
+regimes: { count: 2 }
+";
+
+#[test]
+fn a_small_plant_builds() {
+    let dir = tempfile::tempdir().expect("tempdir");
+    small_plant(dir.path(), |_, _| {});
+    write(dir.path(), "c.yaml", SMALL);
+    let r = regimix(dir.path(), &["build", "c.yaml", "--out", "o", "--quiet"]);
+    assert!(r.status.success(), "{}", String::from_utf8_lossy(&r.stderr));
+}
+
+#[test]
+fn bad_input_gets_one_message_and_leaves_no_files() {
+    type Edit = Box<dyn Fn(usize, &mut Vec<String>)>;
+    let cases: Vec<(&str, Edit, String, &str)> = vec![
+        (
+            "unknown column",
+            Box::new(|_, _| {}),
+            SMALL.replace("tag: X2", "tag: X3"),
+            "no column `X3`",
+        ),
+        (
+            "target all missing",
+            Box::new(|k, r: &mut Vec<String>| {
+                r[3] = if k % 2 == 0 {
+                    "Bad".into()
+                } else {
+                    String::new()
+                }
+            }),
+            SMALL.to_string(),
+            "has no usable values",
+        ),
+        (
+            "constant input",
+            Box::new(|_, r: &mut Vec<String>| r[2] = "20.000".into()),
+            SMALL.to_string(),
+            "input `X2` is constant",
+        ),
+        (
+            "lab-only target with output lags",
+            Box::new(|_, _| {}),
+            SMALL
+                .replace(
+                    "target: { tag: Y, source: analyzer }",
+                    "target: { tag: Y, source: lab }",
+                )
+                .replace(
+                    "structure: { max-lag: 5min }",
+                    "structure: { max-lag: 5min, max-output-lag: 2 }",
+                ),
+            "lab results are too sparse to feed back",
+        ),
+        (
+            "fewer usable rows than parameters",
+            Box::new(|k, r: &mut Vec<String>| {
+                if k > 60 {
+                    r[3] = "Bad".into()
+                }
+            }),
+            SMALL.to_string(),
+            "rows have the target and every candidate regressor valid",
+        ),
+        (
+            "more regimes than the data supports",
+            Box::new(|k, r: &mut Vec<String>| {
+                if k > 200 {
+                    r[1] = "Bad".into()
+                }
+            }),
+            SMALL.replace("count: 2", "count: 16"),
+            "too few for 16 regimes",
+        ),
+        (
+            "NaN and inf in data",
+            Box::new(|k, r: &mut Vec<String>| {
+                if k > 40 {
+                    r[1] = if k % 2 == 0 {
+                        "NaN".into()
+                    } else {
+                        "inf".into()
+                    }
+                }
+            }),
+            SMALL.to_string(),
+            "rows",
+        ),
+    ];
+    for (name, edit, config, needle) in cases {
+        let dir = tempfile::tempdir().expect("tempdir");
+        small_plant(dir.path(), edit);
+        write(dir.path(), "c.yaml", &config);
+        let r = regimix(dir.path(), &["build", "c.yaml", "--out", "o", "--quiet"]);
+        assert!(
+            r.status.code() == Some(2),
+            "{name}: {}",
+            String::from_utf8_lossy(&r.stderr)
+        );
+        assert_clean_failure(&r, needle);
+        assert!(
+            !dir.path().join("o").join("model.rgmx").exists(),
+            "{name}: nothing written"
+        );
+    }
+}
+
+#[test]
+fn a_failed_build_keeps_the_previous_model_and_unwritable_output_is_an_error() {
+    let dir = tempfile::tempdir().expect("tempdir");
+    small_plant(dir.path(), |_, _| {});
+    write(dir.path(), "c.yaml", SMALL);
+    let r = regimix(dir.path(), &["build", "c.yaml", "--out", "o", "--quiet"]);
+    assert!(r.status.success(), "{}", String::from_utf8_lossy(&r.stderr));
+    let before = std::fs::read(dir.path().join("o/model.rgmx")).expect("model");
+    write(
+        dir.path(),
+        "broken.yaml",
+        &SMALL.replace("plant.csv", "missing.csv"),
+    );
+    let r = regimix(
+        dir.path(),
+        &["build", "broken.yaml", "--out", "o", "--quiet"],
+    );
+    assert_clean_failure(&r, "missing.csv: cannot read");
+    assert_eq!(
+        std::fs::read(dir.path().join("o/model.rgmx")).expect("model"),
+        before
+    );
+    let leftovers: Vec<String> = std::fs::read_dir(dir.path().join("o"))
+        .expect("dir")
+        .map(|e| e.expect("e").file_name().to_string_lossy().into_owned())
+        .filter(|n| n.ends_with(".tmp"))
+        .collect();
+    assert!(leftovers.is_empty(), "{leftovers:?}");
+    write(dir.path(), "afile", "x");
+    let r = regimix(
+        dir.path(),
+        &["build", "c.yaml", "--out", "afile/o", "--quiet"],
+    );
+    assert_clean_failure(&r, "cannot write");
+}
