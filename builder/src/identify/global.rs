@@ -100,7 +100,8 @@ mod tests {
         let terms = [Term::Input { input: 0, lag: 0 }];
         let rows: Vec<usize> = (0..n).collect();
         let weights = vec![w1, w2];
-        let fits = fit_global(&terms, &weights, &[x.clone()], &y, &rows, 0.0).expect("fit");
+        let fits =
+            fit_global(&terms, &weights, std::slice::from_ref(&x), &y, &rows, 0.0).expect("fit");
         assert!(
             (fits[0].theta[0] - 1.0).abs() < 1e-9 && (fits[0].theta[1] - 2.0).abs() < 1e-9,
             "{:?}",
@@ -111,7 +112,7 @@ mod tests {
             "{:?}",
             fits[1].theta
         );
-        let pred = predict(&terms, &fits, &weights, &[x.clone()], &y, 0..n);
+        let pred = predict(&terms, &fits, &weights, std::slice::from_ref(&x), &y, 0..n);
         assert!(pred.iter().all(|(k, p)| (p - y[*k]).abs() < 1e-9));
         let base = fit_baseline(&terms, &[x], &y, &rows, 0.0).expect("baseline");
         assert_eq!(base.theta.len(), 2);
