@@ -266,3 +266,46 @@ fn a_failed_build_keeps_the_previous_model_and_unwritable_output_is_an_error() {
     );
     assert_clean_failure(&r, "cannot write");
 }
+
+/// The report is well-formed: every inline SVG parses as XML and the page's elements balance
+/// (checked with quick-xml; the page has no network references).
+#[test]
+fn report_html_and_every_svg_parse() {
+    let dir = tempfile::tempdir().expect("tempdir");
+    small_plant(dir.path(), |_, _| {});
+    write(dir.path(), "c.yaml", SMALL);
+    let r = regimix(dir.path(), &["build", "c.yaml", "--out", "o", "--quiet"]);
+    assert!(r.status.success(), "{}", String::from_utf8_lossy(&r.stderr));
+    let html = std::fs::read_to_string(dir.path().join("o/report.html")).expect("report");
+    let body = html.trim_start_matches("<!DOCTYPE html>");
+    let mut reader = quick_xml::Reader::from_str(body);
+    reader.config_mut().check_end_names = true;
+    let mut depth = 0i64;
+    let mut svgs = 0;
+    loop {
+        match reader.read_event() {
+            Ok(quick_xml::events::Event::Start(e)) => {
+                depth += 1;
+                if e.name().as_ref() == b"svg" {
+                    svgs += 1;
+                }
+            }
+            Ok(quick_xml::events::Event::End(_)) => depth -= 1,
+            Ok(quick_xml::events::Event::Eof) => break,
+            Ok(_) => {}
+            Err(e) => panic!(
+                "report is not well-formed at byte {}: {e}",
+                reader.buffer_position()
+            ),
+        }
+    }
+    assert_eq!(depth, 0, "unbalanced elements");
+    assert!(
+        svgs >= 4,
+        "{svgs} figures (series, parity, histogram, memberships)"
+    );
+    assert!(
+        !html.contains("src=\"http") && !html.contains("href=\"http"),
+        "no network resources"
+    );
+}

@@ -13,12 +13,18 @@ use regimix_builder::report::report_html;
 pub fn run(config_path: &Path, out: &Path, quiet: bool) -> anyhow::Result<()> {
     let config = Config::load(config_path)?;
     let started = std::time::Instant::now();
-    let progress = |stage: &str| {
-        if !quiet {
-            eprintln!("  {stage} …");
-        }
+    // One spinner line per stage on stderr (hidden with --quiet or when stderr is not a terminal).
+    let bar = if quiet {
+        indicatif::ProgressBar::hidden()
+    } else {
+        let bar = indicatif::ProgressBar::new_spinner();
+        bar.enable_steady_tick(std::time::Duration::from_millis(120));
+        bar
     };
-    let built = build(&config, &progress)?;
+    let progress = |stage: &str| bar.set_message(stage.to_string());
+    let built = build(&config, &progress);
+    bar.finish_and_clear();
+    let built = built?;
     let s = summary(&built, config.modelling.seed);
     let json = serde_json::to_string_pretty(&s)? + "\n";
     let report = report_html(&built, &config, &s);

@@ -38,6 +38,7 @@ struct Summary {
     bias_limit: f64,
     outlier_k: f64,
     estimate_range: (f64, f64),
+    state_words: usize,
     regimes: Vec<RegimeDynamics>,
 }
 
@@ -85,6 +86,7 @@ fn summary(m: &ModelView<'_>) -> Summary {
         bias_limit: t.bias_limit,
         outlier_k: t.outlier_k,
         estimate_range: (t.low, t.high),
+        state_words: regimix_runtime::state_words(m),
         regimes: regime_dynamics(m),
     }
 }

@@ -43,7 +43,7 @@ pub fn report_html(b: &Built, config: &Config, s: &Summary) -> String {
     let unit = &config.target.spec.unit;
     let target = &config.target.spec.tag;
     let mut h = String::new();
-    let _ = write!(h, "<!DOCTYPE html><html lang=\"en\"><head><meta charset=\"utf-8\"><title>regimix report — {}</title><style>{STYLE}</style></head><body>", esc(target));
+    let _ = write!(h, "<!DOCTYPE html><html lang=\"en\"><head><meta charset=\"utf-8\"/><title>regimix report — {}</title><style>{STYLE}</style></head><body>", esc(target));
     let _ = write!(
         h,
         "<h1>Soft sensor for {} [{}]</h1><p>Model <code>{}</code>, builder {}, {} regimes, {} regressors, sample time {}. Test block from {} ({} samples).</p>",
@@ -250,6 +250,39 @@ pub fn report_html(b: &Built, config: &Config, s: &Summary) -> String {
             h.push_str("</table>");
         }
         h.push_str("<p>Gains are local derivatives at each regime's operating point, through the target transform; intervals from the parameter covariance (delta method, t-distribution). Dead time and time constant are read off each regime's simulated unit-step response.</p>");
+        // How each gain changes with the operating level: the check a modeller makes against the
+        // process physics (e.g. a temperature-to-impurity gain growing with the impurity level).
+        let mut order: Vec<usize> = (0..dynamics.len()).collect();
+        order.sort_by(|&a, &b| dynamics[a].target.total_cmp(&dynamics[b].target));
+        let _ = write!(h, "<h3 id=\"gains-across\">Gains across regimes, by {} level</h3><table><tr><th>input</th>", esc(target));
+        for &i in &order {
+            let _ = write!(
+                h,
+                "<th>regime {} ({} {})</th>",
+                i + 1,
+                num(dynamics[i].target),
+                esc(unit)
+            );
+        }
+        h.push_str("<th>largest / smallest |gain|</th></tr>");
+        for (j, tag) in tags.iter().enumerate() {
+            let g: Vec<f64> = order
+                .iter()
+                .map(|&i| dynamics[i].inputs.get(j).map_or(0.0, |r| r.gain))
+                .collect();
+            if g.iter().all(|v| *v == 0.0) {
+                continue;
+            }
+            let _ = write!(h, "<tr><td>{}</td>", esc(tag));
+            for v in &g {
+                let _ = write!(h, "<td>{}</td>", num(*v));
+            }
+            let mags: Vec<f64> = g.iter().map(|v| v.abs()).filter(|v| *v > 0.0).collect();
+            let spread = mags.iter().copied().fold(0.0, f64::max)
+                / mags.iter().copied().fold(f64::INFINITY, f64::min);
+            let _ = write!(h, "<td>{:.1}×</td></tr>", spread);
+        }
+        h.push_str("</table><p>A soft sensor for a nonlinear plant earns its regimes when these gains differ; check that the direction and size of the change match the process (for an impurity, sensitivities usually grow with the impurity level).</p>");
     }
 
     h.push_str("<h2 id=\"structure\">Selected structure</h2><p>");
