@@ -213,7 +213,7 @@ pub struct RawValidation {
 pub struct RawRuntime {
     /// How long an invalid input is replaced by its last good value (default 5 × sample-time).
     pub hold_limit: Option<Span>,
-    /// Oldest lab result the bias update accepts (default: lab delay + 2 h, or 4 h).
+    /// Oldest lab result the bias update accepts (default: lab delay + 1 h, or 2 h for analyzers).
     pub lab_window: Option<Span>,
     /// Bias filter gain in (0, 1] (default 0.3).
     pub bias_gain: Option<f64>,
@@ -847,7 +847,7 @@ impl RawConfig {
         let window = rt
             .lab_window
             .unwrap_or(Span::from_micros(
-                lab_delay.map_or(4 * 3_600_000_000, |d| d.micros() + 2 * 3_600_000_000),
+                lab_delay.map_or(2 * 3_600_000_000, |d| d.micros() + 3_600_000_000),
             ))
             .whole_steps(ts);
         if hold > i64::from(u16::MAX) || window as usize > regimix_format::limits::MAX_LAB_WINDOW {
