@@ -244,7 +244,19 @@ pub fn build(config: &Config, progress: &dyn Fn(&str)) -> Result<Built, BuildErr
             (part, vec![v])
         }
         RegimeCount::Auto => {
-            let table = sweep(&data, m.count_range.0..=m.count_range.1, &params)?;
+            // A regime needs target samples of its own: cap the count at about 40 per regime
+            // (sparse lab targets support fewer regimes than the inputs alone would suggest).
+            let target_rows = (0..train_end)
+                .filter(|&k| target_model[k].is_finite())
+                .count();
+            let cap = (target_rows / 40).max(m.count_range.0);
+            let high = m.count_range.1.min(cap);
+            if high < m.count_range.1 {
+                progress(&format!(
+                    "{target_rows} training target samples: trying at most {high} regimes"
+                ));
+            }
+            let table = sweep(&data, m.count_range.0..=high, &params)?;
             let validity: Vec<Validity> = table.iter().map(|(_, v)| v.clone()).collect();
             let chosen = choose_count(&validity).unwrap_or(m.count_range.0);
             let part = table
@@ -301,7 +313,7 @@ pub fn build(config: &Config, progress: &dyn Fn(&str)) -> Result<Built, BuildErr
     }
     // Every regime needs enough data of its own for its parameters.
     let parameters = terms.len() + 1;
-    let needed = 10 * parameters;
+    let needed = 5 * parameters; // rule of thumb: at least five samples per parameter
     for (i, w) in weights.iter().enumerate() {
         let samples: f64 = train_rows.iter().map(|&k| w[k].powf(m.fuzziness)).sum();
         if samples < needed as f64 {

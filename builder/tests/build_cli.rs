@@ -186,7 +186,7 @@ fn bad_input_gets_one_message_and_leaves_no_files() {
                 }
             }),
             SMALL.to_string(),
-            "rows have the target and every candidate regressor valid",
+            "fewer effective samples",
         ),
         (
             "more regimes than the data supports",
@@ -210,7 +210,7 @@ fn bad_input_gets_one_message_and_leaves_no_files() {
                 }
             }),
             SMALL.to_string(),
-            "rows",
+            "fewer effective samples",
         ),
     ];
     for (name, edit, config, needle) in cases {
@@ -308,4 +308,30 @@ fn report_html_and_every_svg_parse() {
         !html.contains("src=\"http") && !html.contains("href=\"http"),
         "no network resources"
     );
+}
+
+/// A lab-only target (results every 4 h, stamped at result time): few samples, so the automatic
+/// regime count is capped by the target samples and the model is static (no output lags).
+#[test]
+fn lab_target_builds_a_static_model() {
+    let dir = tempfile::tempdir().expect("tempdir");
+    demo_config(dir.path());
+    let root = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("../demo-data");
+    std::fs::copy(root.join("c301-lab.yaml"), dir.path().join("c301-lab.yaml")).expect("copy");
+    let r = regimix(
+        dir.path(),
+        &["build", "c301-lab.yaml", "--out", "lab", "--quiet"],
+    );
+    assert!(r.status.success(), "{}", String::from_utf8_lossy(&r.stderr));
+    let summary: serde_json::Value = serde_json::from_slice(
+        &std::fs::read(dir.path().join("lab/summary.json")).expect("summary"),
+    )
+    .expect("json");
+    assert!(summary["regressors"]
+        .as_array()
+        .expect("regressors")
+        .iter()
+        .all(|r| !r.as_str().unwrap_or("").starts_with("LAB-3010")));
+    assert!(summary["test"]["samples"].as_u64().expect("samples") >= 20);
+    assert!(summary["rmse_ratio"].as_f64().expect("ratio") < 1.0);
 }

@@ -14,7 +14,9 @@ fn demo_model_replays_identically_and_f32_stays_close() {
     let ds = &built.prepared.dataset;
     let n = ds.grid.len;
     let p = config.inputs.len();
-    let rows: Vec<Vec<f64>> = (0..n).map(|k| (0..p).map(|j| ds.inputs[[k, j]]).collect()).collect();
+    let rows: Vec<Vec<f64>> = (0..n)
+        .map(|k| (0..p).map(|j| ds.inputs[[k, j]]).collect())
+        .collect();
     let times: Vec<i64> = (0..n).map(|k| ds.time(k)).collect();
 
     // Validation used the runtime on the encoded bytes: replaying the same rows gives the same bits.
@@ -36,7 +38,10 @@ fn demo_model_replays_identically_and_f32_stays_close() {
         let x: Vec<f32> = row.iter().map(|v| *v as f32).collect();
         let e = e32.step(&x);
         let r = &built.estimates[k];
-        if r.status & Status::FALLBACK == 0 && e.status.0 & Status::FALLBACK == 0 && r.value.is_finite() {
+        if r.status & Status::FALLBACK == 0
+            && e.status.0 & Status::FALLBACK == 0
+            && r.value.is_finite()
+        {
             worst = worst.max((f64::from(e.value) - r.value).abs() / r.value.abs().max(1e-3));
             compared += 1;
         }

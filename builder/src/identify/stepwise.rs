@@ -218,8 +218,8 @@ impl Problem<'_> {
             .collect()
     }
 
-    fn score(&self, terms: &[Term], ridge: f64) -> Option<(Vec<Fit>, f64)> {
-        let fits = self.fit(terms, ridge).ok()?;
+    fn try_score(&self, terms: &[Term], ridge: f64) -> Result<(Vec<Fit>, f64), FitError> {
+        let fits = self.fit(terms, ridge)?;
         let pred = predict(
             terms,
             &fits,
@@ -228,8 +228,13 @@ impl Problem<'_> {
             self.target,
             self.validation.clone(),
         );
-        let e = rmse(&pred, self.target);
-        e.is_finite().then_some((fits, e))
+        Ok((fits, rmse(&pred, self.target)))
+    }
+
+    fn score(&self, terms: &[Term], ridge: f64) -> Option<(Vec<Fit>, f64)> {
+        self.try_score(terms, ridge)
+            .ok()
+            .filter(|(_, e)| e.is_finite())
     }
 
     fn rss(fits: &[Fit]) -> f64 {
@@ -247,6 +252,12 @@ pub enum SelectionError {
         rows: usize,
         /// Needed.
         needed: usize,
+    },
+    /// The validation block has no target samples to score candidates on.
+    #[error("the validation block (the last 30 % of the training rows) has only {samples} usable target samples; export a longer period or lower validation.test-share")]
+    NoValidation {
+        /// Usable target samples there.
+        samples: usize,
     },
     /// No structure could be fitted.
     #[error("no regressor structure could be fitted: {0}")]
@@ -270,7 +281,8 @@ pub fn select(
     let all = candidates(&params.max_lag, params.max_output_lag);
     let n = target.len();
     let usable = usable_rows(&all, inputs, target, 0..n);
-    let needed = 10 * (weights.len() * 4 + 10);
+    // Enough rows to fit an offset and a couple of regressors per regime, and to validate.
+    let needed = 20 + 6 * weights.len();
     if usable.len() < needed {
         return Err(SelectionError::TooFewRows {
             rows: usable.len(),
@@ -281,6 +293,15 @@ pub fn select(
     let gap = all.iter().map(|t| t.lag()).max().unwrap_or(0) + 1;
     let train: Vec<usize> = usable.iter().copied().filter(|&k| k < split).collect();
     let validation = (split + gap).min(n)..n;
+    let validation_samples = validation
+        .clone()
+        .filter(|&k| target[k].is_finite())
+        .count();
+    if validation_samples < 5 {
+        return Err(SelectionError::NoValidation {
+            samples: validation_samples,
+        });
+    }
     let p = all.len();
     let row = |k: usize, out: &mut [f64]| {
         for (o, &t) in out.iter_mut().zip(&all) {
@@ -304,7 +325,7 @@ pub fn select(
     let total_weight: f64 = problem.grams.iter().map(|g| g.weight).sum();
     let guard = 1e-10; // keeps selection solves regular; the final ridge is chosen below
     let mut selected: Vec<Term> = Vec::new();
-    let (mut fits, mut current) = problem.score(&selected, guard).ok_or(FitError::Singular)?;
+    let (mut fits, mut current) = problem.try_score(&selected, guard)?;
     let mut path = Vec::new();
     while selected.len() < params.max_terms {
         let rss_now = Problem::rss(&fits);
