@@ -14,6 +14,7 @@ use regimix_runtime::Status;
 use crate::config::{Config, Estimation, RegimeCount};
 use crate::error::DataError;
 use crate::identify::global::{fit_baseline, fit_global};
+use crate::identify::refine::{refine, simulation_mse};
 use crate::identify::stepwise::{predict, select, SelectionError, Step, StructureParams};
 use crate::identify::wls::{Fit, FitError};
 use crate::identify::{design, Term};
@@ -163,6 +164,8 @@ pub struct Built {
     pub baseline_estimates: Vec<(usize, f64)>,
     /// Training rows used for fitting.
     pub training_rows: usize,
+    /// Whether output-error refinement was applied (and kept).
+    pub refined: bool,
 }
 
 fn column_stats(values: impl Iterator<Item = f64>) -> (f64, f64, f64, f64) {
@@ -336,6 +339,46 @@ pub fn build(config: &Config, progress: &dyn Fn(&str)) -> Result<Built, BuildErr
             &train_rows,
             selection.ridge.max(1e-10),
         )?,
+    };
+    // Optional output-error refinement, kept only if the selection's hold-out block improves.
+    let mut refined = false;
+    let fits = if m.refine_output_error && terms.iter().any(|t| matches!(t, Term::Output { .. })) {
+        progress("refining on the simulation error");
+        let fit_rows = 0..selection.validation_start;
+        let hold_out = selection.validation_start..train_end;
+        match refine(
+            &terms,
+            &fits,
+            &weights,
+            &inputs,
+            &selection_target,
+            fit_rows,
+            40,
+        ) {
+            Some(better)
+                if simulation_mse(
+                    &terms,
+                    &better,
+                    &weights,
+                    &inputs,
+                    &selection_target,
+                    hold_out.clone(),
+                ) < simulation_mse(
+                    &terms,
+                    &fits,
+                    &weights,
+                    &inputs,
+                    &selection_target,
+                    hold_out,
+                ) =>
+            {
+                refined = true;
+                better
+            }
+            _ => fits,
+        }
+    } else {
+        fits
     };
     progress("fitting the global linear baseline");
     let baseline_fit = fit_baseline(
@@ -512,6 +555,7 @@ pub fn build(config: &Config, progress: &dyn Fn(&str)) -> Result<Built, BuildErr
         out_of_domain: ood,
         baseline_estimates: base_pred,
         training_rows: train_rows.len(),
+        refined,
     })
 }
 

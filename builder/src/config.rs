@@ -197,6 +197,8 @@ pub struct RawStructure {
     pub estimation: Option<Estimation>,
     /// Relative validation improvement needed to add a regressor (default 0.01).
     pub min_improvement: Option<f64>,
+    /// Refine the blended model on its free-run simulation error (default false).
+    pub refine_output_error: Option<bool>,
 }
 
 /// The `validation` section.
@@ -420,6 +422,8 @@ pub struct Modelling {
     pub estimation: Estimation,
     /// Stepwise entry threshold.
     pub min_improvement: f64,
+    /// Output-error refinement requested.
+    pub refine_output_error: bool,
     /// Test share.
     pub test_share: f64,
     /// Substitution hold, samples.
@@ -888,6 +892,7 @@ impl RawConfig {
             max_output_lag,
             estimation: st.estimation.unwrap_or_default(),
             min_improvement,
+            refine_output_error: st.refine_output_error.unwrap_or(false),
             test_share,
             hold_limit: hold as u16,
             lab_window: window as u16,

@@ -36,6 +36,8 @@ pub struct Summary {
     pub test_start: String,
     /// Training rows used for fitting.
     pub training_rows: usize,
+    /// Output-error refinement applied and kept.
+    pub refined: bool,
 }
 
 /// Model metrics on the test block.
@@ -101,6 +103,7 @@ pub fn summary(b: &Built, seed: u64) -> Summary {
         rmse_ratio: b.test.rmse / b.baseline.rmse,
         test_start: Rfc3339(b.prepared.dataset.time(b.test_start)).to_string(),
         training_rows: b.training_rows,
+        refined: b.refined,
     }
 }
 

@@ -231,6 +231,37 @@ fn bad_input_gets_one_message_and_leaves_no_files() {
     }
 }
 
+/// Malformed data files fail `build` the way they fail `check`: one message naming file and line.
+#[test]
+fn malformed_files_fail_the_build_cleanly() {
+    let cases: Vec<(&str, &str)> = vec![
+        ("", "plant.csv: the file is empty"),
+        (
+            "time,X1,X2,Y\n",
+            "plant.csv: the file has a header but no data rows",
+        ),
+        (
+            "time,X1,X2,Y\n2026-03-02 00:00:00,1,2,3\n2026-03-02 00:01:00,1,2\n",
+            "plant.csv:3: row has 3 fields",
+        ),
+        (
+            "time,X1,X2,Y\n2026-03-02 00:05:00,1,2,3\n2026-03-02 00:01:00,1,2,3\n",
+            "plant.csv:3: column `time`: time goes backwards",
+        ),
+    ];
+    for (data, needle) in cases {
+        let dir = tempfile::tempdir().expect("tempdir");
+        write(dir.path(), "plant.csv", data);
+        write(dir.path(), "c.yaml", SMALL);
+        let r = regimix(dir.path(), &["build", "c.yaml", "--out", "o", "--quiet"]);
+        assert_clean_failure(&r, needle);
+        assert!(
+            !dir.path().join("o").exists(),
+            "nothing written for `{needle}`"
+        );
+    }
+}
+
 #[test]
 fn a_failed_build_keeps_the_previous_model_and_unwritable_output_is_an_error() {
     let dir = tempfile::tempdir().expect("tempdir");

@@ -22,6 +22,7 @@
 pub mod design;
 pub mod gains;
 pub mod global;
+pub mod refine;
 pub mod stepwise;
 pub mod wls;
 

@@ -285,7 +285,19 @@ pub fn report_html(b: &Built, config: &Config, s: &Summary) -> String {
         h.push_str("</table><p>A soft sensor for a nonlinear plant earns its regimes when these gains differ; check that the direction and size of the change match the process (for an impurity, sensitivities usually grow with the impurity level).</p>");
     }
 
-    h.push_str("<h2 id=\"structure\">Selected structure</h2><p>");
+    let _ = write!(
+        h,
+        "<h2 id=\"structure\">Selected structure</h2><p>Estimation: {}{}. Regressors: ",
+        match config.modelling.estimation {
+            crate::config::Estimation::Local => "weighted least squares per regime",
+            crate::config::Estimation::Global => "global least squares over all regimes",
+        },
+        if b.refined {
+            ", refined on the free-run simulation error"
+        } else {
+            ""
+        }
+    );
     h.push_str(
         &b.terms
             .iter()
