@@ -70,10 +70,20 @@ pub fn time_series(series: &[Series<'_>], x_label: &str, y_label: &str) -> Strin
             .y_label_area_size(70)
             .build_cartesian_2d(x0..x1, y0..y1)
             .ok()?;
+        let magnitude = y0.abs().max(y1.abs());
+        let scientific = magnitude > 0.0 && !(1e-2..1e5).contains(&magnitude);
+        let format_y = move |v: &f64| {
+            if scientific {
+                format!("{v:.2e}")
+            } else {
+                format!("{v:.3}")
+            }
+        };
         chart
             .configure_mesh()
             .x_desc(x_label)
             .y_desc(y_label)
+            .y_label_formatter(&format_y)
             .light_line_style(RGBColor(235, 240, 243))
             .draw()
             .ok()?;
