@@ -107,6 +107,21 @@ unsafe fn parts<'a>(sensor: *const RgxSensor) -> Result<(&'a [u8], &'a mut [f64]
     Ok((model, state))
 }
 
+/// Re-opens the estimator of an initialized handle and runs `f` on it.
+///
+/// # Safety
+/// As for [`parts`].
+unsafe fn with_estimator<R>(
+    sensor: *const RgxSensor,
+    f: impl FnOnce(&mut Estimator<'_, '_, f64>) -> R,
+) -> Result<R, i32> {
+    // SAFETY: forwarded to the caller's contract.
+    let (model, state) = unsafe { parts(sensor) }?;
+    let view = ModelView::parse_trusted(model).map_err(decode_code)?;
+    let mut estimator = Estimator::resume(view, state).map_err(|_| RGX_E_STATE_TOO_SMALL)?;
+    Ok(f(&mut estimator))
+}
+
 /// Number of doubles of state the model needs. Validates the model (CRC included).
 ///
 /// # Safety
@@ -188,24 +203,18 @@ pub unsafe extern "C" fn rgx_step(
     if inputs.is_null() || out.is_null() {
         return RGX_E_NULL;
     }
-    // SAFETY: see `parts`.
-    let (model, state) = match unsafe { parts(sensor) } {
-        Ok(p) => p,
-        Err(code) => return code,
-    };
-    let view = match ModelView::parse_trusted(model) {
-        Ok(v) => v,
-        Err(e) => return decode_code(e),
-    };
-    if n_inputs != view.n_inputs() {
-        return RGX_E_INPUT_COUNT;
-    }
-    let Ok(mut estimator) = Estimator::resume(view, state) else {
-        return RGX_E_STATE_TOO_SMALL;
-    };
     // SAFETY: the caller guarantees `n_inputs` readable doubles.
     let x = unsafe { core::slice::from_raw_parts(inputs, n_inputs) };
-    let e = estimator.step(x);
+    // SAFETY: the handle's contract is the caller's (see `rgx_init`).
+    let e = match unsafe {
+        with_estimator(sensor, |est| {
+            (est.model().n_inputs() == n_inputs).then(|| est.step(x))
+        })
+    } {
+        Ok(Some(e)) => e,
+        Ok(None) => return RGX_E_INPUT_COUNT,
+        Err(code) => return code,
+    };
     // SAFETY: checked non-NULL; the caller guarantees it is writable.
     unsafe {
         ptr::write(
@@ -237,19 +246,20 @@ pub unsafe extern "C" fn rgx_weights(
     if weights.is_null() || count.is_null() {
         return RGX_E_NULL;
     }
-    // SAFETY: see `parts`.
-    let (model, state) = match unsafe { parts(sensor) } {
-        Ok(p) => p,
+    let mut buffer = [0.0f64; regimix_format::limits::MAX_REGIMES];
+    // SAFETY: the handle's contract is the caller's (see `rgx_init`).
+    let n = match unsafe {
+        with_estimator(sensor, |est| {
+            let w = est.weights();
+            let n = w.len().min(buffer.len());
+            buffer[..n].copy_from_slice(&w[..n]);
+            n
+        })
+    } {
+        Ok(n) => n,
         Err(code) => return code,
     };
-    let view = match ModelView::parse_trusted(model) {
-        Ok(v) => v,
-        Err(e) => return decode_code(e),
-    };
-    let Ok(estimator) = Estimator::resume(view, state) else {
-        return RGX_E_STATE_TOO_SMALL;
-    };
-    let w = estimator.weights();
+    let w = &buffer[..n];
     // SAFETY: checked non-NULL; writable by contract.
     unsafe { ptr::write(count, w.len()) };
     if capacity < w.len() {
@@ -277,19 +287,12 @@ pub unsafe extern "C" fn rgx_lab_result(
     if outcome.is_null() {
         return RGX_E_NULL;
     }
-    // SAFETY: see `parts`.
-    let (model, state) = match unsafe { parts(sensor) } {
-        Ok(p) => p,
-        Err(code) => return code,
-    };
-    let view = match ModelView::parse_trusted(model) {
-        Ok(v) => v,
-        Err(e) => return decode_code(e),
-    };
-    let Ok(mut estimator) = Estimator::resume(view, state) else {
-        return RGX_E_STATE_TOO_SMALL;
-    };
-    let result: LabOutcome = estimator.lab_result(value, age);
+    // SAFETY: the handle's contract is the caller's (see `rgx_init`).
+    let result: LabOutcome =
+        match unsafe { with_estimator(sensor, |est| est.lab_result(value, age)) } {
+            Ok(r) => r,
+            Err(code) => return code,
+        };
     // SAFETY: checked non-NULL; writable by contract.
     unsafe { ptr::write(outcome, result.code()) };
     RGX_OK

@@ -22,23 +22,15 @@ import subprocess
 import sys
 import time
 
+sys.path.insert(0, str(pathlib.Path(__file__).resolve().parent))
+import bench_env  # noqa: E402  (scripts/bench/bench_env.py)
+
 ROOT = pathlib.Path(__file__).resolve().parents[2]
-VENV = ROOT / ".venv-bench"
 PACKAGES = ["numpy", "pandas", "scikit-learn"]
 
 
-def ensure_venv():
-    python = VENV / "bin" / "python"
-    if not python.exists():
-        subprocess.run([sys.executable, "-m", "venv", str(VENV)], check=True)
-    if pathlib.Path(sys.prefix).resolve() != VENV.resolve():
-        subprocess.run([str(python), "-m", "pip", "install", "-q", *PACKAGES], check=True)
-        env = {k: v for k, v in os.environ.items() if k not in ("OPENBLAS_CORETYPE", "OPENBLAS_L2_SIZE")}
-        sys.exit(subprocess.run([str(python), __file__, *sys.argv[1:]], env=env).returncode)
-
-
 def main():
-    ensure_venv()
+    bench_env.enter(__file__, PACKAGES, None)
     import numpy as np
     import pandas as pd
     import sklearn

@@ -17,29 +17,16 @@ import subprocess
 import sys
 import time
 
+sys.path.insert(0, str(pathlib.Path(__file__).resolve().parent))
+import bench_env  # noqa: E402  (scripts/bench/bench_env.py)
+
 ROOT = pathlib.Path(__file__).resolve().parents[2]
-VENV = ROOT / ".venv-bench"
 # scikit-fuzzy imports `packaging` without declaring it.
 PACKAGES = ["numpy", "scikit-learn", "scikit-fuzzy", "packaging", "threadpoolctl"]
 
 
-def ensure_venv():
-    python = VENV / "bin" / "python"
-    if not python.exists():
-        subprocess.run([sys.executable, "-m", "venv", str(VENV)], check=True)
-    if pathlib.Path(sys.prefix).resolve() != VENV.resolve():
-        subprocess.run([str(python), "-m", "pip", "install", "-q", *PACKAGES], check=True)
-    return python
-
-
 def main():
-    python = ensure_venv()
-    if pathlib.Path(sys.prefix).resolve() != VENV.resolve() or "OPENBLAS_CORETYPE" in os.environ:
-        # Re-run inside the venv, without the OpenBLAS overrides some machines set (they force a
-        # slower kernel; see the env notes) and with both cores for BLAS.
-        env = {k: v for k, v in os.environ.items() if k not in ("OPENBLAS_CORETYPE", "OPENBLAS_L2_SIZE")}
-        env["OMP_NUM_THREADS"] = env["OPENBLAS_NUM_THREADS"] = "2"
-        sys.exit(subprocess.run([str(python), __file__, *sys.argv[1:]], env=env).returncode)
+    bench_env.enter(__file__, PACKAGES, {"OMP_NUM_THREADS": "2", "OPENBLAS_NUM_THREADS": "2"})
 
     import numpy as np
     import sklearn

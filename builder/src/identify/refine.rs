@@ -11,7 +11,7 @@ use argmin::solver::linesearch::MoreThuenteLineSearch;
 use argmin::solver::quasinewton::LBFGS;
 
 use super::design::Term;
-use super::stepwise::predict;
+use super::stepwise::{mean_squared_error, predict};
 use super::wls::Fit;
 
 /// The problem: free-run error of the blend on `rows` as a function of every θ.
@@ -47,19 +47,7 @@ pub fn simulation_mse(
     target: &[f64],
     rows: std::ops::Range<usize>,
 ) -> f64 {
-    let pred = predict(terms, fits, weights, inputs, target, rows);
-    let (mut s, mut n) = (0.0, 0usize);
-    for (k, p) in pred {
-        if target[k].is_finite() {
-            s += (target[k] - p).powi(2);
-            n += 1;
-        }
-    }
-    if n == 0 {
-        f64::INFINITY
-    } else {
-        s / n as f64
-    }
+    mean_squared_error(&predict(terms, fits, weights, inputs, target, rows), target)
 }
 
 impl CostFunction for OutputError<'_> {
@@ -124,18 +112,7 @@ pub fn refine(
         .run()
         .ok()?;
     let best = result.state().get_best_param()?.clone();
-    let OutputError { template, .. } = result.problem.problem?;
-    let k = terms.len() + 1;
-    Some(
-        template
-            .iter()
-            .enumerate()
-            .map(|(i, f)| Fit {
-                theta: best[i * k..(i + 1) * k].to_vec(),
-                ..f.clone()
-            })
-            .collect(),
-    )
+    Some(result.problem.problem?.fits(&best))
 }
 
 #[cfg(test)]

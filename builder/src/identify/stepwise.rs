@@ -126,7 +126,8 @@ pub fn predict(
     out
 }
 
-fn rmse(pred: &[(usize, f64)], target: &[f64]) -> f64 {
+/// Mean squared error of predictions against the finite target values (∞ with none).
+pub fn mean_squared_error(pred: &[(usize, f64)], target: &[f64]) -> f64 {
     let (mut s, mut n) = (0.0, 0usize);
     for &(k, p) in pred {
         if let Some(y) = target.get(k).filter(|y| y.is_finite()) {
@@ -137,8 +138,12 @@ fn rmse(pred: &[(usize, f64)], target: &[f64]) -> f64 {
     if n == 0 {
         f64::INFINITY
     } else {
-        (s / n as f64).sqrt()
+        s / n as f64
     }
+}
+
+fn rmse(pred: &[(usize, f64)], target: &[f64]) -> f64 {
+    mean_squared_error(pred, target).sqrt()
 }
 
 /// Terms that keep every input's lags and the output lags contiguous when added.
