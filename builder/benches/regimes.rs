@@ -34,15 +34,15 @@ pub fn mixture(n: usize, d: usize, c: usize, seed: u64) -> Columns {
 fn gk_iteration(crit: &mut Criterion) {
     let mut group = crit.benchmark_group("gk_iteration");
     group.sample_size(10);
-    for &(n, d, c) in &[
-        (10_000, 4, 3),
-        (10_000, 8, 6),
-        (100_000, 4, 3),
-        (100_000, 8, 6),
-        (1_000_000, 4, 3),
-        (1_000_000, 8, 3),
-        (1_000_000, 8, 6),
-    ] {
+    let grid: Vec<(usize, usize, usize)> = [10_000, 100_000, 1_000_000]
+        .iter()
+        .flat_map(|&n| {
+            [4, 8]
+                .iter()
+                .flat_map(move |&d| [3, 6].iter().map(move |&c| (n, d, c)))
+        })
+        .collect();
+    for &(n, d, c) in &grid {
         let data = mixture(n, d, c, 7);
         let mut params = RegimeParams::new(c);
         params.restarts = 1;

@@ -42,6 +42,8 @@ pub struct RegimeDynamics {
     pub inputs: Vec<InputResponse>,
     /// Magnitudes of the output-lag poles (empty for a static or FIR model).
     pub pole_magnitudes: Vec<f64>,
+    /// `−Ts / ln p` of the dominant real pole `0 < p < 1`, seconds (None without one).
+    pub pole_time_constant: Option<f64>,
     /// All poles inside the unit circle.
     pub stable: bool,
 }
@@ -179,6 +181,13 @@ pub fn regime_dynamics(model: &ModelView<'_>) -> Vec<RegimeDynamics> {
                 .collect();
             let roots = poles(&a_coef);
             let magnitudes: Vec<f64> = roots.iter().map(|(re, im)| re.hypot(*im)).collect();
+            let dominant_real = roots
+                .iter()
+                .filter(|(re, im)| im.abs() < 1e-12 && *re > 0.0 && *re < 1.0)
+                .map(|(re, _)| *re)
+                .fold(None, |best: Option<f64>, p| {
+                    Some(best.map_or(p, |b| b.max(p)))
+                });
             RegimeDynamics {
                 regime: i,
                 operating_point: (0..n)
@@ -188,6 +197,7 @@ pub fn regime_dynamics(model: &ModelView<'_>) -> Vec<RegimeDynamics> {
                 inputs,
                 stable: magnitudes.iter().all(|m| *m < 1.0),
                 pole_magnitudes: magnitudes,
+                pole_time_constant: dominant_real.map(|p| -ts / p.ln()),
             }
         })
         .collect()

@@ -20,6 +20,11 @@
 //! ```
 #![cfg_attr(not(any(test, feature = "std")), no_std)]
 
+/// The user guide's Rust example runs as a doctest.
+#[cfg(doctest)]
+#[doc = include_str!("../../docs/user-guide.md")]
+pub struct UserGuide;
+
 mod estimator;
 #[cfg(feature = "ffi")]
 pub mod ffi;
