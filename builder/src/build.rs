@@ -164,6 +164,8 @@ pub struct Built {
     pub baseline_estimates: Vec<(usize, f64)>,
     /// Training rows used for fitting.
     pub training_rows: usize,
+    /// Rows the regimes were clustered on.
+    pub clustering_rows: usize,
     /// Whether output-error refinement was applied (and kept).
     pub refined: bool,
 }
@@ -177,6 +179,9 @@ fn column_stats(values: impl Iterator<Item = f64>) -> (f64, f64, f64, f64) {
     let hi = v.iter().copied().fold(f64::NEG_INFINITY, f64::max);
     (mean, std, lo, hi)
 }
+
+/// Most rows used for clustering (an evenly spaced subsample beyond this).
+pub const CLUSTER_ROWS: usize = 50_000;
 
 /// Runs the whole job for a checked config. `progress` receives one line per stage.
 pub fn build(config: &Config, progress: &dyn Fn(&str)) -> Result<Built, BuildError> {
@@ -555,6 +560,7 @@ pub fn build(config: &Config, progress: &dyn Fn(&str)) -> Result<Built, BuildErr
         out_of_domain: ood,
         baseline_estimates: base_pred,
         training_rows: train_rows.len(),
+        clustering_rows: rows.len(),
         refined,
     })
 }

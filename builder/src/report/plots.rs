@@ -14,6 +14,16 @@ const COLOURS: [RGBColor; 8] = [
     RGBColor(200, 170, 40),
 ];
 
+/// Most points drawn per series (long series are thinned evenly; keeps the page small).
+const MAX_POINTS: usize = 4000;
+
+fn thin(points: &[(f64, f64)]) -> impl Iterator<Item = (f64, f64)> + '_ {
+    points
+        .iter()
+        .copied()
+        .step_by(points.len().div_ceil(MAX_POINTS).max(1))
+}
+
 /// Wraps an SVG in a captioned figure.
 pub fn figure(svg: &str, caption: &str) -> String {
     format!("<figure>{svg}<figcaption>{caption}</figcaption></figure>")
@@ -90,16 +100,10 @@ pub fn time_series(series: &[Series<'_>], x_label: &str, y_label: &str) -> Strin
         for (i, (name, points, as_points)) in series.iter().enumerate() {
             let colour = COLOURS[i % COLOURS.len()];
             let drawn = if *as_points {
-                chart.draw_series(
-                    points
-                        .iter()
-                        .map(|&(x, y)| Circle::new((x, y), 3, colour.filled())),
-                )
+                chart
+                    .draw_series(thin(points).map(|(x, y)| Circle::new((x, y), 3, colour.filled())))
             } else {
-                chart.draw_series(LineSeries::new(
-                    points.iter().copied(),
-                    colour.stroke_width(1),
-                ))
+                chart.draw_series(LineSeries::new(thin(points), colour.stroke_width(1)))
             };
             drawn.ok()?.label(*name).legend(move |(x, y)| {
                 PathElement::new(vec![(x, y), (x + 16, y)], colour.stroke_width(2))
@@ -139,9 +143,7 @@ pub fn parity(pairs: &[(f64, f64)], unit: &str) -> String {
             .ok()?;
         chart
             .draw_series(
-                pairs
-                    .iter()
-                    .map(|&(x, y)| Circle::new((x, y), 2, COLOURS[0].mix(0.5).filled())),
+                thin(pairs).map(|(x, y)| Circle::new((x, y), 2, COLOURS[0].mix(0.5).filled())),
             )
             .ok()?;
         Some(())
