@@ -186,17 +186,20 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         }
     }
 
+    /// Index of the newest entry; always below `len` (a corrupted head reads as 0). Ring indices
+    /// wrap by comparison, not `%`: an integer division per access would dominate `step`.
     fn head(&self, ring: usize, len: usize) -> usize {
         let h = self.get(ring).to_f64();
-        if h.is_finite() && h >= 0.0 {
-            (h as usize) % len.max(1)
+        if h.is_finite() && h >= 0.0 && (h as usize) < len {
+            h as usize
         } else {
             0
         }
     }
 
     fn push(&mut self, ring: usize, len: usize, v: T) {
-        let h = (self.head(ring, len) + 1) % len.max(1);
+        let next = self.head(ring, len) + 1;
+        let h = if next >= len { 0 } else { next };
         self.set(ring, T::from_f64(h as f64));
         self.set(ring + 1 + h, v);
     }
@@ -206,7 +209,9 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
             return T::NAN;
         }
         let h = self.head(ring, len);
-        self.get(ring + 1 + (h + len - lag) % len.max(1))
+        // h < len and lag < len, so h + len − lag lies in [1, 2·len).
+        let i = h + len - lag;
+        self.get(ring + 1 + if i >= len { i - len } else { i })
     }
 
     fn fill(&mut self, ring: usize, len: usize, v: T) {
