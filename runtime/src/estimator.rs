@@ -373,31 +373,53 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         let mut eta = [T::ONE; MAX_REGIMES];
         let mut local = [T::ZERO; MAX_REGIMES];
         let mut dmin = T::from_f64(f64::MAX);
+        // Largest record: p + p(p+1)/2 + 2 + r values.
+        const RECORD: usize =
+            MAX_ANTECEDENT + MAX_ANTECEDENT * (MAX_ANTECEDENT + 1) / 2 + 2 + MAX_REGRESSORS;
+        let mut buf = [T::ZERO; RECORD];
+        let tri = p * (p + 1) / 2;
         for i in 0..c {
-            let mut record = model.regime_values(i);
-            let mut center = [T::ZERO; MAX_ANTECEDENT];
-            for v in center.iter_mut().take(p) {
-                *v = T::from_f64(record.next().unwrap_or(f64::NAN));
+            // Decode the record once, in one tight loop, then work on plain arrays.
+            for (dst, v) in buf.iter_mut().zip(model.regime_values(i)) {
+                *dst = T::from_f64(v);
+            }
+            let (center, rest) = buf.split_at(p.min(RECORD));
+            let (factor, rest) = rest.split_at(tri.min(rest.len()));
+            let mut diff = [T::ZERO; MAX_ANTECEDENT];
+            for ((d, s), c0) in diff.iter_mut().zip(&scaled).zip(center) {
+                *d = *s - *c0;
             }
             let mut total = T::ZERO;
+            let mut at = 0;
             for row in 0..p {
+                let coefficients = factor.get(at..at + row + 1).unwrap_or(&[]);
                 let mut y = T::ZERO;
-                for col in 0..=row {
-                    let f = T::from_f64(record.next().unwrap_or(f64::NAN));
-                    y = y + f * (scaled[col] - center[col]);
+                for (f, d) in coefficients.iter().zip(&diff) {
+                    y = y + *f * *d;
                 }
                 total = total + y * y;
+                at += row + 1;
             }
             d2[i] = if total > tiny { total } else { tiny };
             if d2[i] < dmin {
                 dmin = d2[i];
             }
-            eta[i] = T::from_f64(record.next().unwrap_or(f64::NAN));
-            let mut y = T::from_f64(record.next().unwrap_or(f64::NAN));
-            for v in values.iter().take(nr) {
-                y = y + T::from_f64(record.next().unwrap_or(f64::NAN)) * *v;
+            eta[i] = rest.first().copied().unwrap_or(T::NAN);
+            let offset = rest.get(1).copied().unwrap_or(T::NAN);
+            let coefficients = rest.get(2..2 + nr).unwrap_or(&[]);
+            // Four partial sums: shorter dependency chains than one running sum.
+            let mut acc = [T::ZERO; 4];
+            let mut chunks = coefficients.chunks_exact(4).zip(values.chunks_exact(4));
+            for (cs, vs) in &mut chunks {
+                for k in 0..4 {
+                    acc[k] = acc[k] + cs[k] * vs[k];
+                }
             }
-            local[i] = y;
+            let tail = nr - nr % 4;
+            for (cf, v) in coefficients.iter().zip(&values[..nr]).skip(tail) {
+                acc[0] = acc[0] + *cf * *v;
+            }
+            local[i] = offset + ((acc[0] + acc[1]) + (acc[2] + acc[3]));
         }
         let exponent = T::from_f64(1.0 / (m - 1.0));
         let square = m == 2.0;
