@@ -1,6 +1,6 @@
 //! The per-sample estimator over a [`ModelView`] and caller-provided state.
 
-use regimix_format::limits::MAX_INPUTS;
+use regimix_format::limits::{MAX_ANTECEDENT, MAX_INPUTS};
 use regimix_format::transform::Transform;
 use regimix_format::{ModelView, Source};
 
@@ -189,28 +189,36 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
     /// Index of the newest entry; always below `len` (a corrupted head reads as 0). Ring indices
     /// wrap by comparison, not `%`: an integer division per access would dominate `step`.
     fn head(&self, ring: usize, len: usize) -> usize {
-        let h = self.get(ring).to_f64();
-        if h.is_finite() && h >= 0.0 && (h as usize) < len {
+        // Saturating conversion through i32 (NaN → 0): one instruction, unlike f64 → usize.
+        let h = self.get(ring).to_f64() as i32;
+        if h >= 0 && (h as usize) < len {
             h as usize
         } else {
             0
         }
     }
 
-    fn push(&mut self, ring: usize, len: usize, v: T) {
+    /// Appends `v`; returns the new head.
+    fn push(&mut self, ring: usize, len: usize, v: T) -> usize {
         let next = self.head(ring, len) + 1;
         let h = if next >= len { 0 } else { next };
-        self.set(ring, T::from_f64(h as f64));
+        self.set(ring, T::from_f64(f64::from(h as u32))); // h < len ≤ MAX_LAB_WINDOW + 1
         self.set(ring + 1 + h, v);
+        h
     }
 
     fn lagged(&self, ring: usize, len: usize, lag: usize) -> T {
+        self.lagged_at(ring, len, self.head(ring, len), lag)
+    }
+
+    /// The value `lag` samples before the newest, given the ring's head (`head < len`).
+    #[inline]
+    fn lagged_at(&self, ring: usize, len: usize, head: usize, lag: usize) -> T {
         if lag >= len {
             return T::NAN;
         }
-        let h = self.head(ring, len);
-        // h < len and lag < len, so h + len − lag lies in [1, 2·len).
-        let i = h + len - lag;
+        // head < len and lag < len, so head + len − lag lies in [1, 2·len).
+        let i = head + len - lag;
         self.get(ring + 1 + if i >= len { i - len } else { i })
     }
 
@@ -252,11 +260,15 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         let first = !(self.get(COUNT).to_f64() > 0.0);
         let target = model.target();
         let hold = T::from_f64(f64::from(model.hold_limit()));
-        for (j, &x) in inputs.iter().enumerate().take(MAX_INPUTS) {
-            let Some(settings) = model.input(j) else {
-                continue;
-            };
-            let (low, high) = (T::from_f64(settings.low), T::from_f64(settings.high));
+        let mut heads = [0usize; MAX_INPUTS];
+        for ((j, &x), record) in inputs
+            .iter()
+            .enumerate()
+            .take(MAX_INPUTS)
+            .zip(model.input_records())
+        {
+            let mut settings = Words::of(record);
+            let (low, high, mean) = (settings.next(), settings.next(), settings.next());
             let slot = self.layout.inputs + 2 * j;
             let effective = if x.is_finite() && x >= low && x <= high {
                 self.set(slot, x);
@@ -274,7 +286,7 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
                     if last.is_finite() {
                         last
                     } else {
-                        T::from_f64(settings.mean)
+                        mean
                     }
                 }
             };
@@ -282,7 +294,7 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
             if first {
                 self.fill(ring, len, effective);
             }
-            self.push(ring, len, effective);
+            heads[j] = self.push(ring, len, effective);
         }
         let count = self.get(COUNT).to_f64();
         let count = if count.is_finite() { count } else { 0.0 };
@@ -295,11 +307,11 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         // regimes' records.
         if first && model.uses_output_lags() {
             // Start the output history at the blended steady state (needs the memberships).
-            self.evaluate(&target);
+            self.evaluate(&target, &heads);
             let start = self.steady_state();
             self.fill(self.layout.out_ring, self.layout.out_len, start);
         }
-        let (y, typicality, dominant) = self.evaluate(&target);
+        let (y, typicality, dominant) = self.evaluate(&target, &heads);
         if !(typicality >= T::from_f64(target.domain_threshold)) {
             status |= Status::OUT_OF_DOMAIN;
         }
@@ -346,108 +358,103 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         }
     }
 
-    /// Memberships (into the weights slots), typicality and the blended consequent. Returns
-    /// (blended model-domain estimate, largest typicality, dominant regime).
-    fn evaluate(&mut self, target: &regimix_format::TargetSettings) -> (T, T, u8) {
-        use regimix_format::limits::{MAX_ANTECEDENT, MAX_REGIMES, MAX_REGRESSORS};
+    /// Memberships (into the weights slots), typicality and the blended consequent, given the
+    /// input rings' heads. Returns (blended model-domain estimate, largest typicality, dominant
+    /// regime). The hot path: every model field is read straight from the validated bytes.
+    fn evaluate(
+        &mut self,
+        target: &regimix_format::TargetSettings,
+        heads: &[usize; MAX_INPUTS],
+    ) -> (T, T, u8) {
+        use regimix_format::limits::{MAX_REGIMES, MAX_REGRESSORS};
         let model = self.model;
-        let c = model.n_regimes().min(MAX_REGIMES);
+        let layout = &self.layout;
+        let weights_at = layout.weights;
         let p = model.n_antecedent().min(MAX_ANTECEDENT);
         let nr = model.n_regressors().min(MAX_REGRESSORS);
-        let m = target.fuzziness;
         let mut scaled = [T::ZERO; MAX_ANTECEDENT];
         for (a, s) in scaled.iter_mut().enumerate().take(p) {
             let j = model.antecedent_input(a).min(MAX_INPUTS - 1);
-            let x = self.lagged(self.layout.rings[j], self.layout.ring_len[j], 0);
-            *s = match model.input(j) {
-                Some(st) => (x - T::from_f64(st.mean)) / T::from_f64(st.std),
-                None => T::NAN,
+            let x = self.lagged_at(layout.rings[j], layout.ring_len[j], heads[j], 0);
+            let mut settings = Words::of(model.input_records().nth(j).unwrap_or(&[]));
+            settings.skip(2);
+            let (mean, std) = (settings.next(), settings.next());
+            *s = (x - mean) / std;
+        }
+
+        let out_head = self.head(layout.out_ring, layout.out_len);
+        let mut values = [T::ZERO; MAX_REGRESSORS];
+        for (v, record) in values.iter_mut().zip(model.regressor_records()) {
+            let &[source, input, lag0, lag1] = record else {
+                continue;
+            };
+            let lag = usize::from(u16::from_le_bytes([lag0, lag1]));
+            *v = if source == 0 {
+                let j = usize::from(input).min(MAX_INPUTS - 1);
+                self.lagged_at(layout.rings[j], layout.ring_len[j], heads[j], lag)
+            } else {
+                self.lagged_at(layout.out_ring, layout.out_len, out_head, lag)
             };
         }
-        let mut values = [T::ZERO; MAX_REGRESSORS];
-        for (r, v) in values.iter_mut().enumerate().take(nr) {
-            *v = self.regressor_value(r);
-        }
+
+        // One pass over each regime's record: squared distance through the lower-triangular
+        // factor, then η, the offset and the consequent.
         let tiny = T::from_f64(1e-30);
         let mut d2 = [T::ZERO; MAX_REGIMES];
-        let mut eta = [T::ONE; MAX_REGIMES];
-        let mut local = [T::ZERO; MAX_REGIMES];
+        let (mut best_d2, mut best_eta) = (T::ONE, T::ZERO); // ratio +∞ until a regime is seen
         let mut dmin = T::from_f64(f64::MAX);
-        // Largest record: p + p(p+1)/2 + 2 + r values.
-        const RECORD: usize =
-            MAX_ANTECEDENT + MAX_ANTECEDENT * (MAX_ANTECEDENT + 1) / 2 + 2 + MAX_REGRESSORS;
-        let mut buf = [T::ZERO; RECORD];
-        let tri = p * (p + 1) / 2;
-        for i in 0..c {
-            // Decode the record once, in one tight loop, then work on plain arrays.
-            for (dst, v) in buf.iter_mut().zip(model.regime_values(i)) {
-                *dst = T::from_f64(v);
+        let mut local = [T::ZERO; MAX_REGIMES];
+        let geometry_bytes = 8 * (p + p * (p + 1) / 2);
+        for ((record, d2), local) in model.regime_records().zip(&mut d2).zip(&mut local) {
+            let (geometry, rest) = record.split_at(record.len().min(geometry_bytes));
+            let mut w = Words::of(rest);
+            let total = squared_distance(p, geometry, &scaled);
+            *d2 = if total > tiny { total } else { tiny };
+            if *d2 < dmin {
+                dmin = *d2;
             }
-            let (center, rest) = buf.split_at(p.min(RECORD));
-            let (factor, rest) = rest.split_at(tri.min(rest.len()));
-            let mut diff = [T::ZERO; MAX_ANTECEDENT];
-            for ((d, s), c0) in diff.iter_mut().zip(&scaled).zip(center) {
-                *d = *s - *c0;
+            // The largest typicality belongs to the smallest d²/η (the power is increasing);
+            // compared as d²·η_best < d²_best·η (both positive), one division at the end.
+            let eta = w.next();
+            if *d2 * best_eta < best_d2 * eta {
+                best_d2 = *d2;
+                best_eta = eta;
             }
-            let mut total = T::ZERO;
-            let mut at = 0;
-            for row in 0..p {
-                let coefficients = factor.get(at..at + row + 1).unwrap_or(&[]);
-                let mut y = T::ZERO;
-                for (f, d) in coefficients.iter().zip(&diff) {
-                    y = y + *f * *d;
-                }
-                total = total + y * y;
-                at += row + 1;
-            }
-            d2[i] = if total > tiny { total } else { tiny };
-            if d2[i] < dmin {
-                dmin = d2[i];
-            }
-            eta[i] = rest.first().copied().unwrap_or(T::NAN);
-            let offset = rest.get(1).copied().unwrap_or(T::NAN);
-            let coefficients = rest.get(2..2 + nr).unwrap_or(&[]);
+            let offset = w.next();
             // Four partial sums: shorter dependency chains than one running sum.
             let mut acc = [T::ZERO; 4];
-            let mut chunks = coefficients.chunks_exact(4).zip(values.chunks_exact(4));
-            for (cs, vs) in &mut chunks {
-                for k in 0..4 {
-                    acc[k] = acc[k] + cs[k] * vs[k];
+            let mut chunks = values[..nr].chunks_exact(4);
+            for vs in &mut chunks {
+                for (a, v) in acc.iter_mut().zip(vs) {
+                    *a = *a + w.next() * *v;
                 }
             }
-            let tail = nr - nr % 4;
-            for (cf, v) in coefficients.iter().zip(&values[..nr]).skip(tail) {
-                acc[0] = acc[0] + *cf * *v;
+            for v in chunks.remainder() {
+                acc[0] = acc[0] + w.next() * *v;
             }
-            local[i] = offset + ((acc[0] + acc[1]) + (acc[2] + acc[3]));
+            *local = offset + ((acc[0] + acc[1]) + (acc[2] + acc[3]));
         }
-        let exponent = T::from_f64(1.0 / (m - 1.0));
+
+        let c = model.n_regimes().min(MAX_REGIMES);
+        let m = target.fuzziness;
         let square = m == 2.0;
-        let mut sum = T::ZERO;
-        let mut best_t = T::ZERO;
+        let exponent = T::from_f64(1.0 / (m - 1.0));
+        let power = |x: T| if square { x } else { x.powf(exponent) };
+        let typicality = T::ONE / (T::ONE + power(best_d2 / best_eta));
         let mut u = [T::ZERO; MAX_REGIMES];
-        for i in 0..c {
-            let ratio = dmin / d2[i];
-            u[i] = if square { ratio } else { ratio.powf(exponent) };
-            sum = sum + u[i];
-            let scaled_d = d2[i] / eta[i];
-            let power = if square {
-                scaled_d
-            } else {
-                scaled_d.powf(exponent)
-            };
-            let t = T::ONE / (T::ONE + power);
-            if t > best_t {
-                best_t = t;
-            }
+        let mut sum = T::ZERO;
+        for (u, d2) in u.iter_mut().zip(&d2).take(c) {
+            *u = power(dmin / *d2);
+            sum = sum + *u;
         }
         let mut dominant = 0u8;
         let mut best_u = T::ZERO;
         let mut blended = T::ZERO;
-        for i in 0..c {
-            let beta = u[i] / sum;
-            self.set(self.layout.weights + i, beta);
-            blended = blended + beta * local[i];
+        let scale = T::ONE / sum;
+        for (i, (u, local)) in u.iter().zip(&local).enumerate().take(c) {
+            let beta = *u * scale;
+            self.set(weights_at + i, beta);
+            blended = blended + beta * *local;
             if beta > best_u {
                 best_u = beta;
                 dominant = i as u8;
@@ -455,7 +462,11 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         }
         (
             blended,
-            if best_t.is_finite() { best_t } else { T::ZERO },
+            if typicality.is_finite() {
+                typicality
+            } else {
+                T::ZERO
+            },
             dominant,
         )
     }
@@ -531,5 +542,79 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
             .clamp(-target.bias_limit, target.bias_limit);
         self.set(BIAS, T::from_f64(updated));
         LabOutcome::Applied(updated)
+    }
+}
+
+/// ‖F (x − c)‖² for `p` antecedent variables, `geometry` holding c then F's rows packed
+/// (little-endian f64; NaN if it is too short). The common dimensions get their own inlined
+/// copy (constant `p`), so the loops unroll and the byte-range checks fold into one: this is
+/// the hot spot of `step`.
+fn squared_distance<T: Real>(p: usize, geometry: &[u8], x: &[T; MAX_ANTECEDENT]) -> T {
+    match p {
+        1 => distance_with(1, geometry, x),
+        2 => distance_with(2, geometry, x),
+        3 => distance_with(3, geometry, x),
+        4 => distance_with(4, geometry, x),
+        5 => distance_with(5, geometry, x),
+        6 => distance_with(6, geometry, x),
+        7 => distance_with(7, geometry, x),
+        8 => distance_with(8, geometry, x),
+        _ => distance_with(p, geometry, x),
+    }
+}
+
+#[inline(always)]
+fn distance_with<T: Real>(p: usize, geometry: &[u8], x: &[T; MAX_ANTECEDENT]) -> T {
+    let p = p.min(MAX_ANTECEDENT);
+    let Some(geometry) = geometry.get(..8 * (p + p * (p + 1) / 2)) else {
+        return T::NAN;
+    };
+    let word = |k: usize| geometry.get(8 * k..8 * k + 8).map_or(T::NAN, decode);
+    let mut diff = [T::ZERO; MAX_ANTECEDENT];
+    for (a, d) in diff.iter_mut().enumerate().take(p) {
+        *d = x[a] - word(a);
+    }
+    let mut total = T::ZERO;
+    let mut at = p;
+    for row in 0..p {
+        let mut y = T::ZERO;
+        for (k, d) in diff.iter().enumerate().take(row + 1) {
+            y = y + word(at + k) * *d;
+        }
+        total = total + y * y;
+        at += row + 1;
+    }
+    total
+}
+
+/// Reads a model record's little-endian `f64` fields in order, as `T` (NaN past the end).
+struct Words<'a, T>(
+    core::slice::ChunksExact<'a, u8>,
+    core::marker::PhantomData<T>,
+);
+
+impl<'a, T: Real> Words<'a, T> {
+    fn of(record: &'a [u8]) -> Self {
+        Words(record.chunks_exact(8), core::marker::PhantomData)
+    }
+
+    #[inline(always)]
+    fn next(&mut self) -> T {
+        self.0.next().map_or(T::NAN, decode)
+    }
+
+    fn skip(&mut self, n: usize) {
+        for _ in 0..n {
+            self.0.next();
+        }
+    }
+}
+
+/// One little-endian `f64` field as `T` (NaN unless `bytes` holds exactly 8 bytes).
+#[inline(always)]
+fn decode<T: Real>(bytes: &[u8]) -> T {
+    match bytes {
+        &[a, b, c, d, e, f, g, h] => T::from_f64(f64::from_le_bytes([a, b, c, d, e, f, g, h])),
+        _ => T::NAN,
     }
 }

@@ -31,6 +31,7 @@ impl Transform {
     }
 
     /// Engineering-unit value of a model-domain value `z`.
+    #[inline]
     pub fn inverse(self, z: f64) -> f64 {
         match self {
             Transform::Identity => z,

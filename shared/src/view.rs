@@ -77,18 +77,21 @@ pub struct InputSettings {
     pub std: f64,
 }
 
+#[inline]
 fn read_u16(b: &[u8], at: usize) -> Result<u16, DecodeError> {
     b.get(at..at + 2)
         .map(|s| u16::from_le_bytes([s[0], s[1]]))
         .ok_or(DecodeError::BadLayout)
 }
 
+#[inline]
 fn read_u32(b: &[u8], at: usize) -> Result<u32, DecodeError> {
     b.get(at..at + 4)
         .map(|s| u32::from_le_bytes([s[0], s[1], s[2], s[3]]))
         .ok_or(DecodeError::BadLayout)
 }
 
+#[inline]
 fn read_u64(b: &[u8], at: usize) -> Result<u64, DecodeError> {
     match b.get(at..at + 8) {
         Some(s) => {
@@ -100,6 +103,7 @@ fn read_u64(b: &[u8], at: usize) -> Result<u64, DecodeError> {
     }
 }
 
+#[inline]
 fn read_f64(b: &[u8], at: usize) -> Result<f64, DecodeError> {
     read_u64(b, at).map(f64::from_bits)
 }
@@ -371,67 +375,83 @@ impl<'a> ModelView<'a> {
             .unwrap_or("")
     }
 
+    #[inline]
     fn f64_at(&self, at: usize) -> f64 {
         read_f64(self.bytes, at).unwrap_or(f64::NAN)
     }
 
     /// The raw bytes.
+    #[inline]
     pub fn bytes(&self) -> &'a [u8] {
         self.bytes
     }
     /// Measured inputs.
+    #[inline]
     pub fn n_inputs(&self) -> usize {
         self.n_inputs
     }
     /// Regimes.
+    #[inline]
     pub fn n_regimes(&self) -> usize {
         self.n_regimes
     }
     /// Consequent regressors (without the offset).
+    #[inline]
     pub fn n_regressors(&self) -> usize {
         self.n_regressors
     }
     /// Antecedent variables.
+    #[inline]
     pub fn n_antecedent(&self) -> usize {
         self.n_antecedent
     }
     /// Samples an invalid input is replaced by its last good value.
+    #[inline]
     pub fn hold_limit(&self) -> u16 {
         self.hold_limit
     }
     /// Oldest lab result (in samples) the bias update accepts.
+    #[inline]
     pub fn lab_window(&self) -> u16 {
         self.lab_window
     }
     /// Target transform.
+    #[inline]
     pub fn transform(&self) -> Transform {
         self.transform
     }
     /// Whether consequents use past outputs.
+    #[inline]
     pub fn uses_output_lags(&self) -> bool {
         self.flags & FLAG_OUTPUT_LAGS != 0
     }
     /// Content hash of the body.
+    #[inline]
     pub fn model_id(&self) -> u64 {
         self.model_id
     }
     /// Sample time in seconds.
+    #[inline]
     pub fn sample_time(&self) -> f64 {
         self.sample_time
     }
     /// Builder version that wrote the file.
+    #[inline]
     pub fn builder_version(&self) -> &'a str {
         self.string(0)
     }
     /// Target tag.
+    #[inline]
     pub fn target_tag(&self) -> &'a str {
         self.string(1)
     }
     /// Target unit.
+    #[inline]
     pub fn target_unit(&self) -> &'a str {
         self.string(2)
     }
     /// Tag of input `j` (empty past the end).
+    #[inline]
     pub fn input_tag(&self, j: usize) -> &'a str {
         if j < self.n_inputs {
             self.string(3 + 2 * j)
@@ -440,6 +460,7 @@ impl<'a> ModelView<'a> {
         }
     }
     /// Unit of input `j`.
+    #[inline]
     pub fn input_unit(&self, j: usize) -> &'a str {
         if j < self.n_inputs {
             self.string(4 + 2 * j)
@@ -448,6 +469,7 @@ impl<'a> ModelView<'a> {
         }
     }
     /// Target settings.
+    #[inline]
     pub fn target(&self) -> TargetSettings {
         let f = |k: usize| self.f64_at(self.target + 8 * k);
         TargetSettings {
@@ -463,6 +485,7 @@ impl<'a> ModelView<'a> {
         }
     }
     /// Settings of input `j`.
+    #[inline]
     pub fn input(&self, j: usize) -> Option<InputSettings> {
         if j >= self.n_inputs {
             return None;
@@ -475,6 +498,7 @@ impl<'a> ModelView<'a> {
             std: self.f64_at(at + 24),
         })
     }
+    #[inline]
     fn regressor_raw(&self, r: usize) -> Result<Regressor, DecodeError> {
         let at = self.regressors + 4 * r;
         let source = *self.bytes.get(at).ok_or(DecodeError::BadLayout)?;
@@ -488,6 +512,7 @@ impl<'a> ModelView<'a> {
         Ok(Regressor { source, lag })
     }
     /// Regressor `r`.
+    #[inline]
     pub fn regressor(&self, r: usize) -> Option<Regressor> {
         if r < self.n_regressors {
             self.regressor_raw(r).ok()
@@ -496,57 +521,76 @@ impl<'a> ModelView<'a> {
         }
     }
     /// Input index of antecedent variable `a`.
+    #[inline]
     pub fn antecedent_input(&self, a: usize) -> usize {
         read_u16(self.bytes, self.antecedent + 4 * a).map_or(0, usize::from)
     }
     /// Largest lag of input `j` among the regressors (0 if unused).
+    #[inline]
     pub fn max_input_lag(&self, j: usize) -> u16 {
         self.max_lag.get(j).copied().unwrap_or(0)
     }
     /// Largest output lag (0 without output lags).
+    #[inline]
     pub fn max_output_lag(&self) -> u16 {
         self.max_output_lag
     }
+    #[inline]
     fn regime_start(&self, i: usize) -> usize {
         self.regimes + i * regime_len(self.n_antecedent, self.n_regressors)
     }
-    /// Regime `i`'s record (section F) as f64 values in file order: center, factor, η, offset,
-    /// coefficients. Reads the bytes sequentially, for the runtime's hot path.
-    pub fn regime_values(&self, i: usize) -> impl Iterator<Item = f64> + 'a {
+    /// Section C: one 32-byte record per input (low, high, mean, std as little-endian f64), for
+    /// the runtime's hot path. The fields were validated by [`parse`](Self::parse).
+    #[inline]
+    pub fn input_records(&self) -> core::slice::ChunksExact<'a, u8> {
+        self.section(self.inputs, 32 * self.n_inputs)
+            .chunks_exact(32)
+    }
+    /// Section D: one 4-byte record per regressor (source, input index, lag as little-endian
+    /// u16), for the runtime's hot path.
+    #[inline]
+    pub fn regressor_records(&self) -> core::slice::ChunksExact<'a, u8> {
+        self.section(self.regressors, 4 * self.n_regressors)
+            .chunks_exact(4)
+    }
+    /// Section F: one record per regime (center, factor, η, offset, coefficients as
+    /// little-endian f64, [`regime_len`] bytes), for the runtime's hot path.
+    #[inline]
+    pub fn regime_records(&self) -> core::slice::ChunksExact<'a, u8> {
         let len = regime_len(self.n_antecedent, self.n_regressors);
-        let start = self.regime_start(i);
-        let bytes: &'a [u8] = if i < self.n_regimes {
-            self.bytes.get(start..start + len).unwrap_or(&[])
-        } else {
-            &[]
-        };
-        bytes.chunks_exact(8).map(|c| {
-            let mut a = [0u8; 8];
-            a.copy_from_slice(c);
-            f64::from_le_bytes(a)
-        })
+        self.section(self.regimes, len * self.n_regimes)
+            .chunks_exact(len.max(1))
+    }
+    #[inline]
+    fn section(&self, start: usize, len: usize) -> &'a [u8] {
+        self.bytes.get(start..start + len).unwrap_or(&[])
     }
 
     /// Antecedent center of regime `i`, variable `a` (scaled units).
+    #[inline]
     pub fn center(&self, i: usize, a: usize) -> f64 {
         self.f64_at(self.regime_start(i) + 8 * a)
     }
     /// Entry (row, col ≤ row) of regime `i`'s lower-triangular distance factor.
+    #[inline]
     pub fn factor(&self, i: usize, row: usize, col: usize) -> f64 {
         let p = self.n_antecedent;
         self.f64_at(self.regime_start(i) + 8 * (p + row * (row + 1) / 2 + col))
     }
     /// Typicality scale η of regime `i`.
+    #[inline]
     pub fn eta(&self, i: usize) -> f64 {
         let p = self.n_antecedent;
         self.f64_at(self.regime_start(i) + 8 * (p + p * (p + 1) / 2))
     }
     /// Consequent offset of regime `i` (model domain).
+    #[inline]
     pub fn offset(&self, i: usize) -> f64 {
         let p = self.n_antecedent;
         self.f64_at(self.regime_start(i) + 8 * (p + p * (p + 1) / 2 + 1))
     }
     /// Consequent coefficient of regressor `r` in regime `i`.
+    #[inline]
     pub fn coefficient(&self, i: usize, r: usize) -> f64 {
         let p = self.n_antecedent;
         self.f64_at(self.regime_start(i) + 8 * (p + p * (p + 1) / 2 + 2 + r))
