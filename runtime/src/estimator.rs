@@ -267,8 +267,7 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
             .take(MAX_INPUTS)
             .zip(model.input_records())
         {
-            let mut settings = Words::of(record);
-            let (low, high, mean) = (settings.next(), settings.next(), settings.next());
+            let [low, high, mean] = fields::<T, 3>(record);
             let slot = self.layout.inputs + 2 * j;
             let effective = if x.is_finite() && x >= low && x <= high {
                 self.set(slot, x);
@@ -376,9 +375,8 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         for (a, s) in scaled.iter_mut().enumerate().take(p) {
             let j = model.antecedent_input(a).min(MAX_INPUTS - 1);
             let x = self.lagged_at(layout.rings[j], layout.ring_len[j], heads[j], 0);
-            let mut settings = Words::of(model.input_records().nth(j).unwrap_or(&[]));
-            settings.skip(2);
-            let (mean, std) = (settings.next(), settings.next());
+            let record = model.input_records().nth(j).unwrap_or(&[]);
+            let [mean, std] = fields::<T, 2>(record.get(16..).unwrap_or(&[]));
             *s = (x - mean) / std;
         }
 
@@ -407,7 +405,6 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         let geometry_bytes = 8 * (p + p * (p + 1) / 2);
         for ((record, d2), local) in model.regime_records().zip(&mut d2).zip(&mut local) {
             let (geometry, rest) = record.split_at(record.len().min(geometry_bytes));
-            let mut w = Words::of(rest);
             let total = squared_distance(p, geometry, &scaled);
             *d2 = if total > tiny { total } else { tiny };
             if *d2 < dmin {
@@ -415,22 +412,25 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
             }
             // The largest typicality belongs to the smallest d²/η (the power is increasing);
             // compared as d²·η_best < d²_best·η (both positive), one division at the end.
-            let eta = w.next();
+            let [eta, offset] = fields::<T, 2>(rest);
             if *d2 * best_eta < best_d2 * eta {
                 best_d2 = *d2;
                 best_eta = eta;
             }
-            let offset = w.next();
-            // Four partial sums: shorter dependency chains than one running sum.
+            // Four partial sums: shorter dependency chains than one running sum. The
+            // coefficients are read four at a time, one range check per four.
             let mut acc = [T::ZERO; 4];
+            let coefficients = rest.get(16..).unwrap_or(&[]);
+            let mut words = coefficients.chunks_exact(32);
             let mut chunks = values[..nr].chunks_exact(4);
-            for vs in &mut chunks {
-                for (a, v) in acc.iter_mut().zip(vs) {
-                    *a = *a + w.next() * *v;
+            for (vs, cs) in (&mut chunks).zip(&mut words) {
+                for (k, (a, v)) in acc.iter_mut().zip(vs).enumerate() {
+                    *a = *a + decode::<T>(&cs[8 * k..8 * k + 8]) * *v;
                 }
             }
-            for v in chunks.remainder() {
-                acc[0] = acc[0] + w.next() * *v;
+            let tail = coefficients.get(32 * (nr / 4)..).unwrap_or(&[]);
+            for (v, c) in chunks.remainder().iter().zip(tail.chunks_exact(8)) {
+                acc[0] = acc[0] + decode::<T>(c) * *v;
             }
             *local = offset + ((acc[0] + acc[1]) + (acc[2] + acc[3]));
         }
@@ -587,27 +587,17 @@ fn distance_with<T: Real>(p: usize, geometry: &[u8], x: &[T; MAX_ANTECEDENT]) ->
     total
 }
 
-/// Reads a model record's little-endian `f64` fields in order, as `T` (NaN past the end).
-struct Words<'a, T>(
-    core::slice::ChunksExact<'a, u8>,
-    core::marker::PhantomData<T>,
-);
-
-impl<'a, T: Real> Words<'a, T> {
-    fn of(record: &'a [u8]) -> Self {
-        Words(record.chunks_exact(8), core::marker::PhantomData)
-    }
-
-    #[inline(always)]
-    fn next(&mut self) -> T {
-        self.0.next().map_or(T::NAN, decode)
-    }
-
-    fn skip(&mut self, n: usize) {
-        for _ in 0..n {
-            self.0.next();
+/// The first `N` little-endian `f64` fields of a model record, as `T` (all NaN if the record is
+/// shorter). With `N` constant the reads compile to plain loads after one length check.
+#[inline(always)]
+fn fields<T: Real, const N: usize>(record: &[u8]) -> [T; N] {
+    let mut out = [T::NAN; N];
+    if let Some(bytes) = record.get(..8 * N) {
+        for (o, b) in out.iter_mut().zip(bytes.chunks_exact(8)) {
+            *o = decode(b);
         }
     }
+    out
 }
 
 /// One little-endian `f64` field as `T` (NaN unless `bytes` holds exactly 8 bytes).
