@@ -261,6 +261,7 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         let target = model.target();
         let hold = T::from_f64(f64::from(model.hold_limit()));
         let mut heads = [0usize; MAX_INPUTS];
+        let mut current = [T::ZERO; MAX_INPUTS];
         for ((j, &x), record) in inputs
             .iter()
             .enumerate()
@@ -294,6 +295,7 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
                 self.fill(ring, len, effective);
             }
             heads[j] = self.push(ring, len, effective);
+            current[j] = effective;
         }
         let count = self.get(COUNT).to_f64();
         let count = if count.is_finite() { count } else { 0.0 };
@@ -306,11 +308,11 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         // regimes' records.
         if first && model.uses_output_lags() {
             // Start the output history at the blended steady state (needs the memberships).
-            self.evaluate(&target, &heads);
+            self.evaluate(&target, &heads, &current);
             let start = self.steady_state();
             self.fill(self.layout.out_ring, self.layout.out_len, start);
         }
-        let (y, typicality, dominant) = self.evaluate(&target, &heads);
+        let (y, typicality, dominant) = self.evaluate(&target, &heads, &current);
         if !(typicality >= T::from_f64(target.domain_threshold)) {
             status |= Status::OUT_OF_DOMAIN;
         }
@@ -358,12 +360,13 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
     }
 
     /// Memberships (into the weights slots), typicality and the blended consequent, given the
-    /// input rings' heads. Returns (blended model-domain estimate, largest typicality, dominant
+    /// input rings' heads and the inputs just pushed. Returns (blended model-domain estimate, largest typicality, dominant
     /// regime). The hot path: every model field is read straight from the validated bytes.
     fn evaluate(
         &mut self,
         target: &regimix_format::TargetSettings,
         heads: &[usize; MAX_INPUTS],
+        current: &[T; MAX_INPUTS],
     ) -> (T, T, u8) {
         use regimix_format::limits::{MAX_REGIMES, MAX_REGRESSORS};
         let model = self.model;
@@ -372,12 +375,14 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         let p = model.n_antecedent().min(MAX_ANTECEDENT);
         let nr = model.n_regressors().min(MAX_REGRESSORS);
         let mut scaled = [T::ZERO; MAX_ANTECEDENT];
-        for (a, s) in scaled.iter_mut().enumerate().take(p) {
-            let j = model.antecedent_input(a).min(MAX_INPUTS - 1);
-            let x = self.lagged_at(layout.rings[j], layout.ring_len[j], heads[j], 0);
-            let record = model.input_records().nth(j).unwrap_or(&[]);
-            let [mean, std] = fields::<T, 2>(record.get(16..).unwrap_or(&[]));
-            *s = (x - mean) / std;
+        for (s, record) in scaled.iter_mut().zip(model.antecedent_records()) {
+            let &[j0, j1, ..] = record else {
+                continue;
+            };
+            let j = usize::from(u16::from_le_bytes([j0, j1])).min(MAX_INPUTS - 1);
+            let settings = model.input_record(j);
+            let [mean, std] = fields::<T, 2>(settings.get(16..).unwrap_or(&[]));
+            *s = (current[j] - mean) / std;
         }
 
         let out_head = self.head(layout.out_ring, layout.out_len);
@@ -551,39 +556,39 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
 /// this is the hot spot of `step` (the twelve copies add 2.1 KiB of flash on a Cortex-M4F).
 fn squared_distance<T: Real>(p: usize, geometry: &[u8], x: &[T; MAX_ANTECEDENT]) -> T {
     match p {
-        1 => distance_with(1, geometry, x),
-        2 => distance_with(2, geometry, x),
-        3 => distance_with(3, geometry, x),
-        4 => distance_with(4, geometry, x),
-        5 => distance_with(5, geometry, x),
-        6 => distance_with(6, geometry, x),
-        7 => distance_with(7, geometry, x),
-        8 => distance_with(8, geometry, x),
-        9 => distance_with(9, geometry, x),
-        10 => distance_with(10, geometry, x),
-        11 => distance_with(11, geometry, x),
-        12 => distance_with(12, geometry, x),
-        _ => distance_with(p, geometry, x),
+        0 => T::ZERO,
+        1 => distance_with::<T, 1>(geometry, x),
+        2 => distance_with::<T, 2>(geometry, x),
+        3 => distance_with::<T, 3>(geometry, x),
+        4 => distance_with::<T, 4>(geometry, x),
+        5 => distance_with::<T, 5>(geometry, x),
+        6 => distance_with::<T, 6>(geometry, x),
+        7 => distance_with::<T, 7>(geometry, x),
+        8 => distance_with::<T, 8>(geometry, x),
+        9 => distance_with::<T, 9>(geometry, x),
+        10 => distance_with::<T, 10>(geometry, x),
+        11 => distance_with::<T, 11>(geometry, x),
+        _ => distance_with::<T, 12>(geometry, x),
     }
 }
 
 #[inline(always)]
-fn distance_with<T: Real>(p: usize, geometry: &[u8], x: &[T; MAX_ANTECEDENT]) -> T {
-    let p = p.min(MAX_ANTECEDENT);
-    let Some(geometry) = geometry.get(..8 * (p + p * (p + 1) / 2)) else {
+fn distance_with<T: Real, const P: usize>(geometry: &[u8], x: &[T; MAX_ANTECEDENT]) -> T {
+    let Some(geometry) = geometry.get(..8 * (P + P * (P + 1) / 2)) else {
         return T::NAN;
     };
     let word = |k: usize| geometry.get(8 * k..8 * k + 8).map_or(T::NAN, decode);
-    let mut diff = [T::ZERO; MAX_ANTECEDENT];
-    for (a, d) in diff.iter_mut().enumerate().take(p) {
-        *d = x[a] - word(a);
+    let mut diff = [T::ZERO; P];
+    for a in 0..P {
+        diff[a] = x[a] - word(a);
     }
     let mut total = T::ZERO;
-    let mut at = p;
-    for row in 0..p {
+    let mut at = P;
+    for row in 0..P {
         let mut y = T::ZERO;
-        for (k, d) in diff.iter().enumerate().take(row + 1) {
-            y = y + word(at + k) * *d;
+        // `0..row + 1`, not `0..=row`: inclusive ranges defeat unrolling.
+        for k in 0..row + 1 {
+            y = y + word(at + k) * diff[k];
         }
         total = total + y * y;
         at += row + 1;

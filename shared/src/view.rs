@@ -546,6 +546,22 @@ impl<'a> ModelView<'a> {
         self.section(self.inputs, 32 * self.n_inputs)
             .chunks_exact(32)
     }
+    /// Input `j`'s 32-byte record of section C (empty past the last input).
+    #[inline]
+    pub fn input_record(&self, j: usize) -> &'a [u8] {
+        if j < self.n_inputs {
+            self.section(self.inputs + 32 * j, 32)
+        } else {
+            &[]
+        }
+    }
+    /// Section E: one 4-byte record per antecedent variable (input index as little-endian u16,
+    /// then two zero bytes), for the runtime's hot path.
+    #[inline]
+    pub fn antecedent_records(&self) -> core::slice::ChunksExact<'a, u8> {
+        self.section(self.antecedent, 4 * self.n_antecedent)
+            .chunks_exact(4)
+    }
     /// Section D: one 4-byte record per regressor (source, input index, lag as little-endian
     /// u16), for the runtime's hot path.
     #[inline]
