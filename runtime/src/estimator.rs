@@ -553,7 +553,7 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
 /// ‖F (x − c)‖² for `p` antecedent variables, `geometry` holding c then F's rows packed
 /// (little-endian f64; NaN if it is too short). Every dimension up to `MAX_ANTECEDENT` gets its
 /// own inlined copy (constant `p`), so the loops unroll and the byte-range checks fold into one:
-/// this is the hot spot of `step` (the twelve copies add 2.1 KiB of flash on a Cortex-M4F).
+/// this is the hot spot of `step` (the twelve copies take about 2 KiB of flash on a Cortex-M4F).
 fn squared_distance<T: Real>(p: usize, geometry: &[u8], x: &[T; MAX_ANTECEDENT]) -> T {
     match p {
         0 => T::ZERO,
