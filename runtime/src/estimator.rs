@@ -1,6 +1,6 @@
 //! The per-sample estimator over a [`ModelView`] and caller-provided state.
 
-use regimix_format::limits::{MAX_ANTECEDENT, MAX_INPUTS};
+use regimix_format::limits::{MAX_ANTECEDENT, MAX_INPUTS, MAX_REGIMES};
 use regimix_format::transform::Transform;
 use regimix_format::{ModelView, Source};
 
@@ -10,7 +10,6 @@ use crate::status::{LabOutcome, Status};
 /// Where each part of the state lives, in words of the state slice.
 #[derive(Debug, Clone, Copy)]
 struct Layout {
-    inputs: usize,
     rings: [usize; MAX_INPUTS],
     ring_len: [usize; MAX_INPUTS],
     out_ring: usize,
@@ -32,16 +31,16 @@ impl Layout {
     fn of(model: &ModelView<'_>) -> Layout {
         let n = model.n_inputs();
         let mut at = HEADER_WORDS;
-        let inputs = at;
-        at += 2 * n; // last good value, samples since it
         let mut rings = [0; MAX_INPUTS];
         let mut ring_len = [0; MAX_INPUTS];
         let mut warmup = model.max_output_lag() as usize;
         for j in 0..n.min(MAX_INPUTS) {
+            // One block per input, read in one piece by `step`: last good value, samples since
+            // it, then the ring (head index, values).
             let len = model.max_input_lag(j) as usize + 1;
-            rings[j] = at;
+            rings[j] = at + 2;
             ring_len[j] = len;
-            at += 1 + len; // head index, then the values
+            at += 3 + len;
             warmup = warmup.max(len - 1);
         }
         let out_ring = at;
@@ -52,8 +51,10 @@ impl Layout {
         at += 1 + lab_len;
         let weights = at;
         at += model.n_regimes();
+        // Then scratch for the regressor values of the sample being evaluated: kept in the
+        // caller's state so `step` does not clear a stack array of `MAX_REGRESSORS` words.
+        at += model.n_regressors();
         Layout {
-            inputs,
             rings,
             ring_len,
             out_ring,
@@ -170,7 +171,7 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
             .copied()
             .chain([layout.out_ring, layout.lab_ring])
         {
-            self.set(ring, T::ZERO); // head index
+            self.set(ring, T::from_index(0)); // head index
         }
     }
 
@@ -186,40 +187,23 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         }
     }
 
-    /// Index of the newest entry; always below `len` (a corrupted head reads as 0). Ring indices
-    /// wrap by comparison, not `%`: an integer division per access would dominate `step`.
+    #[inline]
     fn head(&self, ring: usize, len: usize) -> usize {
-        // Saturating conversion through i32 (NaN → 0): one instruction, unlike f64 → usize.
-        let h = self.get(ring).to_f64() as i32;
-        if h >= 0 && (h as usize) < len {
-            h as usize
-        } else {
-            0
-        }
+        head_of(self.state, ring, len)
     }
 
     /// Appends `v`; returns the new head.
+    #[inline]
     fn push(&mut self, ring: usize, len: usize, v: T) -> usize {
         let next = self.head(ring, len) + 1;
         let h = if next >= len { 0 } else { next };
-        self.set(ring, T::from_f64(f64::from(h as u32))); // h < len ≤ MAX_LAB_WINDOW + 1
+        self.set(ring, T::from_index(h as u32)); // h < len ≤ MAX_LAB_WINDOW + 1
         self.set(ring + 1 + h, v);
         h
     }
 
     fn lagged(&self, ring: usize, len: usize, lag: usize) -> T {
-        self.lagged_at(ring, len, self.head(ring, len), lag)
-    }
-
-    /// The value `lag` samples before the newest, given the ring's head (`head < len`).
-    #[inline]
-    fn lagged_at(&self, ring: usize, len: usize, head: usize, lag: usize) -> T {
-        if lag >= len {
-            return T::NAN;
-        }
-        // head < len and lag < len, so head + len − lag lies in [1, 2·len).
-        let i = head + len - lag;
-        self.get(ring + 1 + if i >= len { i - len } else { i })
+        lagged_at(self.state, ring, len, self.head(ring, len) as u16, lag)
     }
 
     fn fill(&mut self, ring: usize, len: usize, v: T) {
@@ -260,42 +244,50 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         let first = !(self.get(COUNT).to_f64() > 0.0);
         let target = model.target();
         let hold = T::from_f64(f64::from(model.hold_limit()));
-        let mut heads = [0usize; MAX_INPUTS];
-        let mut current = [T::ZERO; MAX_INPUTS];
-        for ((j, &x), record) in inputs
+        let mut heads = [0u16; MAX_INPUTS];
+        let mut standardized = [T::ZERO; MAX_INPUTS];
+        let blocks = self.layout.rings.iter().zip(&self.layout.ring_len);
+        for (((&x, record), (head_out, standard)), (&ring, &len)) in inputs
             .iter()
-            .enumerate()
-            .take(MAX_INPUTS)
             .zip(model.input_records())
+            .zip(heads.iter_mut().zip(standardized.iter_mut()))
+            .zip(blocks)
         {
-            let [low, high, mean] = fields::<T, 3>(record);
-            let slot = self.layout.inputs + 2 * j;
+            let [low, high, mean, std] = fields::<T, 4>(record);
+            let block = self.state.get_mut(ring.wrapping_sub(2)..ring + 1 + len);
+            let Some([last, age, head, values @ ..]) = block else {
+                continue;
+            };
             let effective = if x.is_finite() && x >= low && x <= high {
-                self.set(slot, x);
-                self.set(slot + 1, T::ZERO);
+                *last = x;
+                *age = T::ZERO;
                 x
             } else {
-                let last = self.get(slot);
-                let age = self.get(slot + 1) + T::ONE;
-                self.set(slot + 1, age);
-                if last.is_finite() && age <= hold {
+                *age = *age + T::ONE;
+                if last.is_finite() && *age <= hold {
                     status |= Status::INPUT_SUBSTITUTED;
-                    last
+                    *last
                 } else {
                     status |= Status::INPUT_INVALID;
                     if last.is_finite() {
-                        last
+                        *last
                     } else {
                         mean
                     }
                 }
             };
-            let (ring, len) = (self.layout.rings[j], self.layout.ring_len[j]);
             if first {
-                self.fill(ring, len, effective);
+                values.fill(effective);
             }
-            heads[j] = self.push(ring, len, effective);
-            current[j] = effective;
+            // Push: heads are bit patterns below `len` (see `head_of`).
+            let next = head.to_index().wrapping_add(1);
+            let h = if next < values.len() { next } else { 0 };
+            *head = T::from_index(h as u32); // h < len ≤ MAX_LAG + 1
+            if let Some(v) = values.get_mut(h) {
+                *v = effective;
+            }
+            *head_out = h as u16;
+            *standard = (effective - mean) / std;
         }
         let count = self.get(COUNT).to_f64();
         let count = if count.is_finite() { count } else { 0.0 };
@@ -308,11 +300,11 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         // regimes' records.
         if first && model.uses_output_lags() {
             // Start the output history at the blended steady state (needs the memberships).
-            self.evaluate(&target, &heads, &current);
+            self.evaluate(&target, &heads, &standardized);
             let start = self.steady_state();
             self.fill(self.layout.out_ring, self.layout.out_len, start);
         }
-        let (y, typicality, dominant) = self.evaluate(&target, &heads, &current);
+        let (y, typicality, dominant) = self.evaluate(&target, &heads, &standardized);
         if !(typicality >= T::from_f64(target.domain_threshold)) {
             status |= Status::OUT_OF_DOMAIN;
         }
@@ -360,110 +352,104 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
     }
 
     /// Memberships (into the weights slots), typicality and the blended consequent, given the
-    /// input rings' heads and the inputs just pushed. Returns (blended model-domain estimate, largest typicality, dominant
-    /// regime). The hot path: every model field is read straight from the validated bytes.
+    /// input rings' heads after this sample's push and the inputs standardized ((x − mean) / std). Returns (blended model-domain estimate,
+    /// largest typicality, dominant regime). The hot path: every model field is read straight
+    /// from the validated bytes.
     fn evaluate(
         &mut self,
         target: &regimix_format::TargetSettings,
-        heads: &[usize; MAX_INPUTS],
-        current: &[T; MAX_INPUTS],
+        heads: &[u16; MAX_INPUTS],
+        standardized: &[T; MAX_INPUTS],
     ) -> (T, T, u8) {
-        use regimix_format::limits::{MAX_REGIMES, MAX_REGRESSORS};
-        let model = self.model;
+        use regimix_format::limits::MAX_REGRESSORS;
+        let model = &self.model;
         let layout = &self.layout;
-        let weights_at = layout.weights;
         let p = model.n_antecedent().min(MAX_ANTECEDENT);
         let nr = model.n_regressors().min(MAX_REGRESSORS);
+        let c = model.n_regimes().min(MAX_REGIMES);
+        // The history (read) and the scratch words (written) are disjoint parts of the state.
+        let (history, scratch) = self
+            .state
+            .split_at_mut(layout.weights.min(self.state.len()));
+        let (weights, values) = scratch.split_at_mut(c.min(scratch.len()));
+        let values = values.get_mut(..nr).unwrap_or(&mut []);
+
         let mut scaled = [T::ZERO; MAX_ANTECEDENT];
         for (s, record) in scaled.iter_mut().zip(model.antecedent_records()) {
             let &[j0, j1, ..] = record else {
                 continue;
             };
-            let j = usize::from(u16::from_le_bytes([j0, j1])).min(MAX_INPUTS - 1);
-            let settings = model.input_record(j);
-            let [mean, std] = fields::<T, 2>(settings.get(16..).unwrap_or(&[]));
-            *s = (current[j] - mean) / std;
+            // The view checked the index against n_inputs ≤ MAX_INPUTS (a power of two).
+            let j = usize::from(u16::from_le_bytes([j0, j1])) & (MAX_INPUTS - 1);
+            *s = standardized[j];
         }
 
-        let out_head = self.head(layout.out_ring, layout.out_len);
-        let mut values = [T::ZERO; MAX_REGRESSORS];
+        let out_head = head_of(history, layout.out_ring, layout.out_len) as u16;
         for (v, record) in values.iter_mut().zip(model.regressor_records()) {
             let &[source, input, lag0, lag1] = record else {
                 continue;
             };
             let lag = usize::from(u16::from_le_bytes([lag0, lag1]));
-            *v = if source == 0 {
-                let j = usize::from(input).min(MAX_INPUTS - 1);
-                self.lagged_at(layout.rings[j], layout.ring_len[j], heads[j], lag)
+            let (ring, len, head) = if source == 0 {
+                // The view checked `input < n_inputs ≤ MAX_INPUTS`; the mask only keeps the
+                // index provably in bounds (MAX_INPUTS is a power of two).
+                let j = usize::from(input) & (MAX_INPUTS - 1);
+                (layout.rings[j], layout.ring_len[j], heads[j])
             } else {
-                self.lagged_at(layout.out_ring, layout.out_len, out_head, lag)
+                (layout.out_ring, layout.out_len, out_head)
             };
+            *v = lagged_at(history, ring, len, head, lag);
         }
+        let values = &*values;
 
-        // One pass over each regime's record: squared distance through the lower-triangular
-        // factor, then η, the offset and the consequent.
-        let tiny = T::from_f64(1e-30);
         let mut d2 = [T::ZERO; MAX_REGIMES];
-        let (mut best_d2, mut best_eta) = (T::ONE, T::ZERO); // ratio +∞ until a regime is seen
-        let mut dmin = T::from_f64(f64::MAX);
         let mut local = [T::ZERO; MAX_REGIMES];
-        let geometry_bytes = 8 * (p + p * (p + 1) / 2);
-        for ((record, d2), local) in model.regime_records().zip(&mut d2).zip(&mut local) {
-            let (geometry, rest) = record.split_at(record.len().min(geometry_bytes));
-            let total = squared_distance(p, geometry, &scaled);
-            *d2 = if total > tiny { total } else { tiny };
-            if *d2 < dmin {
-                dmin = *d2;
-            }
-            // The largest typicality belongs to the smallest d²/η (the power is increasing);
-            // compared as d²·η_best < d²_best·η (both positive), one division at the end.
-            let [eta, offset] = fields::<T, 2>(rest);
-            if *d2 * best_eta < best_d2 * eta {
-                best_d2 = *d2;
-                best_eta = eta;
-            }
-            // Four partial sums: shorter dependency chains than one running sum. The
-            // coefficients are read four at a time, one range check per four.
-            let mut acc = [T::ZERO; 4];
-            let coefficients = rest.get(16..).unwrap_or(&[]);
-            let mut words = coefficients.chunks_exact(32);
-            let mut chunks = values[..nr].chunks_exact(4);
-            for (vs, cs) in (&mut chunks).zip(&mut words) {
-                for (k, (a, v)) in acc.iter_mut().zip(vs).enumerate() {
-                    *a = *a + decode::<T>(&cs[8 * k..8 * k + 8]) * *v;
-                }
-            }
-            let tail = coefficients.get(32 * (nr / 4)..).unwrap_or(&[]);
-            for (v, c) in chunks.remainder().iter().zip(tail.chunks_exact(8)) {
-                acc[0] = acc[0] + decode::<T>(c) * *v;
-            }
-            *local = offset + ((acc[0] + acc[1]) + (acc[2] + acc[3]));
-        }
+        let regimes = model.regime_records();
+        let distance = match p {
+            1 => distance_with::<T, 1>,
+            2 => distance_with::<T, 2>,
+            3 => distance_with::<T, 3>,
+            4 => distance_with::<T, 4>,
+            5 => distance_with::<T, 5>,
+            6 => distance_with::<T, 6>,
+            7 => distance_with::<T, 7>,
+            8 => distance_with::<T, 8>,
+            9 => distance_with::<T, 9>,
+            10 => distance_with::<T, 10>,
+            11 => distance_with::<T, 11>,
+            _ => distance_with::<T, 12>,
+        };
+        let Pass {
+            dmin,
+            best_d2,
+            best_eta,
+        } = regime_pass(regimes, p, distance, &scaled, values, &mut d2, &mut local);
 
-        let c = model.n_regimes().min(MAX_REGIMES);
         let m = target.fuzziness;
         let square = m == 2.0;
         let exponent = T::from_f64(1.0 / (m - 1.0));
         let power = |x: T| if square { x } else { x.powf(exponent) };
         let typicality = T::ONE / (T::ONE + power(best_d2 / best_eta));
+        // Unnormalized memberships u (the nearest regime has 1). The blend is Σu·y / Σu: one
+        // division at the end of the chain that the estimate waits for, while the weights
+        // u / Σu are stored beside it.
         let mut u = [T::ZERO; MAX_REGIMES];
-        let mut sum = T::ZERO;
-        for (u, d2) in u.iter_mut().zip(&d2).take(c) {
-            *u = power(dmin / *d2);
-            sum = sum + *u;
-        }
+        let (mut sum, mut numerator) = (T::ZERO, T::ZERO);
         let mut dominant = 0u8;
         let mut best_u = T::ZERO;
-        let mut blended = T::ZERO;
-        let scale = T::ONE / sum;
-        for (i, (u, local)) in u.iter().zip(&local).enumerate().take(c) {
-            let beta = *u * scale;
-            self.set(weights_at + i, beta);
-            blended = blended + beta * *local;
-            if beta > best_u {
-                best_u = beta;
+        for (i, ((u, d2), local)) in u.iter_mut().zip(&d2).zip(&local).enumerate().take(c) {
+            *u = power(dmin / *d2);
+            sum = sum + *u;
+            numerator = numerator + *u * *local;
+            if *u > best_u {
+                best_u = *u;
                 dominant = i as u8;
             }
+        }
+        let blended = numerator / sum;
+        let scale = T::ONE / sum;
+        for (w, u) in weights.iter_mut().zip(&u) {
+            *w = *u * scale;
         }
         (
             blended,
@@ -550,29 +536,101 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
     }
 }
 
-/// ‖F (x − c)‖² for `p` antecedent variables, `geometry` holding c then F's rows packed
-/// (little-endian f64; NaN if it is too short). Every dimension up to `MAX_ANTECEDENT` gets its
-/// own inlined copy (constant `p`), so the loops unroll and the byte-range checks fold into one:
-/// this is the hot spot of `step` (the twelve copies take about 2 KiB of flash on a Cortex-M4F).
-fn squared_distance<T: Real>(p: usize, geometry: &[u8], x: &[T; MAX_ANTECEDENT]) -> T {
-    match p {
-        0 => T::ZERO,
-        1 => distance_with::<T, 1>(geometry, x),
-        2 => distance_with::<T, 2>(geometry, x),
-        3 => distance_with::<T, 3>(geometry, x),
-        4 => distance_with::<T, 4>(geometry, x),
-        5 => distance_with::<T, 5>(geometry, x),
-        6 => distance_with::<T, 6>(geometry, x),
-        7 => distance_with::<T, 7>(geometry, x),
-        8 => distance_with::<T, 8>(geometry, x),
-        9 => distance_with::<T, 9>(geometry, x),
-        10 => distance_with::<T, 10>(geometry, x),
-        11 => distance_with::<T, 11>(geometry, x),
-        _ => distance_with::<T, 12>(geometry, x),
+/// Index of the newest entry of the ring at `ring` (`len` values); always below `len` (a
+/// corrupted head reads as 0). Heads are kept as bit patterns ([`Real::from_index`]) and wrap by
+/// comparison, not `%`: a conversion or an integer division per access would dominate `step`.
+#[inline]
+fn head_of<T: Real>(state: &[T], ring: usize, len: usize) -> usize {
+    let h = state.get(ring).map_or(0, |w| w.to_index());
+    if h < len {
+        h
+    } else {
+        0
     }
 }
 
-#[inline(always)]
+/// The value `lag` samples before the newest of the ring at `ring` with `len` values, given its
+/// head. Rings are sized from the model's own lags, so `lag < len` and `head < len` hold and
+/// `head + len − lag` lies in `[1, 2·len)`; were they broken, the wrapped index would read NaN
+/// past the state's end or another word of the state, never out of bounds.
+#[inline]
+fn lagged_at<T: Real>(state: &[T], ring: usize, len: usize, head: u16, lag: usize) -> T {
+    let i = (usize::from(head) + len).wrapping_sub(lag);
+    let i = if i >= len { i - len } else { i };
+    state
+        .get(ring.wrapping_add(1).wrapping_add(i))
+        .copied()
+        .unwrap_or(T::NAN)
+}
+
+/// What the regime pass hands to the membership step.
+struct Pass<T> {
+    /// Smallest squared distance.
+    dmin: T,
+    /// Squared distance and η of the regime with the smallest d²/η (the largest typicality).
+    best_d2: T,
+    best_eta: T,
+}
+
+/// One pass over the regimes' records for `p` antecedent variables: squared distance through
+/// the lower-triangular factor (`distance`, into `d2`, floored at 1e-30), then η, the offset and
+/// the consequent (into `local`).
+fn regime_pass<T: Real>(
+    regimes: core::slice::ChunksExact<'_, u8>,
+    p: usize,
+    distance: fn(&[u8], &[T; MAX_ANTECEDENT]) -> T,
+    scaled: &[T; MAX_ANTECEDENT],
+    values: &[T],
+    d2: &mut [T; MAX_REGIMES],
+    local: &mut [T; MAX_REGIMES],
+) -> Pass<T> {
+    let tiny = T::from_f64(1e-30);
+    let nr = values.len();
+    let mut pass = Pass {
+        dmin: T::from_f64(f64::MAX),
+        best_d2: T::ONE, // ratio +∞ until a regime is seen
+        best_eta: T::ZERO,
+    };
+    let geometry_bytes = 8 * (p + p * (p + 1) / 2);
+    for ((record, d2), local) in regimes.zip(d2).zip(local) {
+        let (geometry, rest) = record.split_at(record.len().min(geometry_bytes));
+        let total = distance(geometry, scaled);
+        *d2 = if total > tiny { total } else { tiny };
+        if *d2 < pass.dmin {
+            pass.dmin = *d2;
+        }
+        // The largest typicality belongs to the smallest d²/η (the power is increasing);
+        // compared as d²·η_best < d²_best·η (both positive), one division at the end.
+        let [eta, offset] = fields::<T, 2>(rest);
+        if *d2 * pass.best_eta < pass.best_d2 * eta {
+            pass.best_d2 = *d2;
+            pass.best_eta = eta;
+        }
+        // Four partial sums: shorter dependency chains than one running sum. The
+        // coefficients are read four at a time, one range check per four.
+        let mut acc = [T::ZERO; 4];
+        let coefficients = rest.get(16..).unwrap_or(&[]);
+        let mut words = coefficients.chunks_exact(32);
+        let mut chunks = values.chunks_exact(4);
+        for (vs, cs) in (&mut chunks).zip(&mut words) {
+            for (k, (a, v)) in acc.iter_mut().zip(vs).enumerate() {
+                *a = *a + decode::<T>(&cs[8 * k..8 * k + 8]) * *v;
+            }
+        }
+        let tail = coefficients.get(32 * (nr / 4)..).unwrap_or(&[]);
+        for (v, c) in chunks.remainder().iter().zip(tail.chunks_exact(8)) {
+            acc[0] = acc[0] + decode::<T>(c) * *v;
+        }
+        *local = offset + ((acc[0] + acc[1]) + (acc[2] + acc[3]));
+    }
+    pass
+}
+
+/// ‖F (x − c)‖² for `P` antecedent variables, `geometry` holding c then F's rows packed
+/// (little-endian f64; NaN if it is too short). Every dimension up to `MAX_ANTECEDENT` gets its
+/// own copy (chosen once per sample), so the loops unroll and the byte-range checks fold into
+/// one: this is the hot spot of `step` (the twelve copies take about 2 KiB of flash on a
+/// Cortex-M4F).
 fn distance_with<T: Real, const P: usize>(geometry: &[u8], x: &[T; MAX_ANTECEDENT]) -> T {
     let Some(geometry) = geometry.get(..8 * (P + P * (P + 1) / 2)) else {
         return T::NAN;

@@ -31,6 +31,12 @@ pub trait Real:
     fn powf(self, e: Self) -> Self;
     /// Absolute value.
     fn abs(self) -> Self;
+    /// A small index (a ring head) kept as the word's bit pattern. Never used as a number, so
+    /// reading it back is one move instead of a checked float-to-integer conversion.
+    fn from_index(i: u32) -> Self;
+    /// The index [`from_index`](Real::from_index) stored; any other word gives some value the
+    /// caller range-checks.
+    fn to_index(self) -> usize;
 }
 
 impl Real for f64 {
@@ -52,6 +58,13 @@ impl Real for f64 {
     fn abs(self) -> Self {
         libm::fabs(self)
     }
+    fn from_index(i: u32) -> Self {
+        f64::from_bits(u64::from(i))
+    }
+    fn to_index(self) -> usize {
+        // Truncates on 32-bit targets; the caller range-checks the result anyway.
+        self.to_bits() as usize
+    }
 }
 
 impl Real for f32 {
@@ -72,5 +85,11 @@ impl Real for f32 {
     }
     fn abs(self) -> Self {
         libm::fabsf(self)
+    }
+    fn from_index(i: u32) -> Self {
+        f32::from_bits(i)
+    }
+    fn to_index(self) -> usize {
+        self.to_bits() as usize
     }
 }

@@ -5,6 +5,7 @@
 //! - [`ModelView::parse`]: validate a model file and read it in place (zero-copy).
 //! - [`encode::ModelSpec::to_bytes`] (feature `encode`): write one.
 //! - [`transform`]: target transforms (log, logit) and their inverses.
+//! - [`exp`]: a table-driven `e^x` with a short dependency chain for those inverses.
 //! - [`crc32`]: the CRC-32/ISO-HDLC trailer and the FNV-1a model id.
 //! - [`limits`]: size limits every model respects.
 //!
@@ -25,6 +26,8 @@ pub mod crc32;
 #[cfg(feature = "encode")]
 pub mod encode;
 pub mod error;
+pub mod exp;
+mod exp_table;
 pub mod limits;
 pub mod transform;
 pub mod view;

@@ -3,6 +3,8 @@
 //! High-purity impurities respond to temperatures roughly exponentially; modelling `ln(x)` or
 //! the logit `ln(p / (1 - p))`, `p = x / full_scale`, makes the relation closer to linear.
 
+use crate::exp::exp;
+
 /// A target transform.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub enum Transform {
@@ -35,13 +37,13 @@ impl Transform {
     pub fn inverse(self, z: f64) -> f64 {
         match self {
             Transform::Identity => z,
-            Transform::Log => libm::exp(z),
+            Transform::Log => exp(z),
             Transform::Logit { full_scale } => {
                 // Written so that large |z| saturates at 0 or full scale instead of giving NaN.
                 if z >= 0.0 {
-                    full_scale / (1.0 + libm::exp(-z))
+                    full_scale / (1.0 + exp(-z))
                 } else {
-                    let e = libm::exp(z);
+                    let e = exp(z);
                     full_scale * e / (1.0 + e)
                 }
             }
@@ -52,7 +54,7 @@ impl Transform {
     pub fn inverse_slope(self, z: f64) -> f64 {
         match self {
             Transform::Identity => 1.0,
-            Transform::Log => libm::exp(z),
+            Transform::Log => exp(z),
             Transform::Logit { full_scale } => {
                 let p = self.inverse(z) / full_scale;
                 full_scale * p * (1.0 - p)
