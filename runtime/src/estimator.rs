@@ -242,7 +242,9 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
             return self.fallback(Status::WRONG_INPUT_COUNT, T::ZERO, 0);
         }
         let first = !(self.get(COUNT).to_f64() > 0.0);
-        let target = model.target();
+        // Section B's first five fields, read with one range check (the rest serve lab results).
+        let [_, target_low, target_high, fuzziness, threshold] =
+            fields::<f64, 5>(model.target_record());
         let hold = T::from_f64(f64::from(model.hold_limit()));
         let mut heads = [0u16; MAX_INPUTS];
         let mut standardized = [T::ZERO; MAX_INPUTS];
@@ -300,12 +302,12 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         // regimes' records.
         if first && model.uses_output_lags() {
             // Start the output history at the blended steady state (needs the memberships).
-            self.evaluate(&target, &heads, &standardized);
+            self.evaluate(fuzziness, &heads, &standardized);
             let start = self.steady_state();
             self.fill(self.layout.out_ring, self.layout.out_len, start);
         }
-        let (y, typicality, dominant) = self.evaluate(&target, &heads, &standardized);
-        if !(typicality >= T::from_f64(target.domain_threshold)) {
+        let (y, typicality, dominant) = self.evaluate(fuzziness, &heads, &standardized);
+        if !(typicality >= T::from_f64(threshold)) {
             status |= Status::OUT_OF_DOMAIN;
         }
         if model.uses_output_lags() {
@@ -322,12 +324,12 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         }
         let biased = (y + self.get(BIAS)).to_f64();
         let mut value = self.transform().inverse(biased);
-        if !(value >= target.low) || !(value <= target.high) {
+        if !(value >= target_low) || !(value <= target_high) {
             status |= Status::CLIPPED;
-            value = if value > target.high {
-                target.high
+            value = if value > target_high {
+                target_high
             } else {
-                target.low
+                target_low
             };
         }
         let value = T::from_f64(value);
@@ -357,7 +359,7 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
     /// from the validated bytes.
     fn evaluate(
         &mut self,
-        target: &regimix_format::TargetSettings,
+        fuzziness: f64,
         heads: &[u16; MAX_INPUTS],
         standardized: &[T; MAX_INPUTS],
     ) -> (T, T, u8) {
@@ -425,7 +427,7 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
             best_eta,
         } = regime_pass(regimes, p, distance, &scaled, values, &mut d2, &mut local);
 
-        let m = target.fuzziness;
+        let m = fuzziness;
         let square = m == 2.0;
         let exponent = T::from_f64(1.0 / (m - 1.0));
         let power = |x: T| if square { x } else { x.powf(exponent) };

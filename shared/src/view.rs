@@ -555,6 +555,12 @@ impl<'a> ModelView<'a> {
             &[]
         }
     }
+    /// Section B: the target settings record (full scale, low, high, fuzziness, domain
+    /// threshold, … as little-endian f64), for the runtime's hot path.
+    #[inline]
+    pub fn target_record(&self) -> &'a [u8] {
+        self.section(self.target, 72)
+    }
     /// Section E: one 4-byte record per antecedent variable (input index as little-endian u16,
     /// then two zero bytes), for the runtime's hot path.
     #[inline]

@@ -90,6 +90,23 @@ fn record_accessors_agree_with_field_accessors() {
     }
     assert!(m.input_record(3).is_empty());
 
+    let t = m.target();
+    let target: Vec<f64> = (0..9).map(|k| word(m.target_record(), k)).collect();
+    assert_eq!(
+        target,
+        vec![
+            t.full_scale,
+            t.low,
+            t.high,
+            t.fuzziness,
+            t.domain_threshold,
+            t.residual_sd,
+            t.bias_gain,
+            t.bias_limit,
+            t.outlier_k
+        ]
+    );
+
     let antecedent: Vec<usize> = m
         .antecedent_records()
         .map(|rec| usize::from(u16::from_le_bytes([rec[0], rec[1]])))
