@@ -400,12 +400,16 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
             } else {
                 (layout.out_ring, layout.out_len, out_head)
             };
-            *v = lagged_at(history, ring, len, head, lag);
+            let back = if source == 0 {
+                lag
+            } else {
+                lag.wrapping_sub(1)
+            };
+            *v = lagged_at(history, ring, len, head, back);
         }
         let values = &*values;
 
-        let mut d2 = [T::ZERO; MAX_REGIMES];
-        let mut local = [T::ZERO; MAX_REGIMES];
+        let mut inverse = [T::ZERO; MAX_REGIMES];
         let regimes = model.regime_records();
         let distance = match p {
             1 => distance_with::<T, 1>,
@@ -421,37 +425,45 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
             11 => distance_with::<T, 11>,
             _ => distance_with::<T, 12>,
         };
-        let Pass {
-            dmin,
-            best_d2,
-            best_eta,
-        } = regime_pass(regimes, p, distance, &scaled, values, &mut d2, &mut local);
+        let mut local = [T::ZERO; MAX_REGIMES];
+        let pass = regime_pass(
+            regimes,
+            p,
+            distance,
+            &scaled,
+            values,
+            &mut inverse,
+            &mut local,
+        );
 
+        // Memberships β_i = u_i / Σu with u_i = (d²_min / d²_i)^(1/(m−1)). For m = 2 the scale
+        // of u cancels, so u_i = 1/d²_i and both sums come from the regime pass: the estimate
+        // then waits for one division after the last regime.
         let m = fuzziness;
         let square = m == 2.0;
         let exponent = T::from_f64(1.0 / (m - 1.0));
         let power = |x: T| if square { x } else { x.powf(exponent) };
-        let typicality = T::ONE / (T::ONE + power(best_d2 / best_eta));
-        // Unnormalized memberships u (the nearest regime has 1). The blend is Σu·y / Σu: one
-        // division at the end of the chain that the estimate waits for, while the weights
-        // u / Σu are stored beside it.
-        let mut u = [T::ZERO; MAX_REGIMES];
-        let (mut sum, mut numerator) = (T::ZERO, T::ZERO);
-        let mut dominant = 0u8;
-        let mut best_u = T::ZERO;
-        for (i, ((u, d2), local)) in u.iter_mut().zip(&d2).zip(&local).enumerate().take(c) {
-            *u = power(dmin / *d2);
-            sum = sum + *u;
-            numerator = numerator + *u * *local;
-            if *u > best_u {
-                best_u = *u;
-                dominant = i as u8;
+        let typicality = T::ONE / (T::ONE + power(pass.best_d2 / pass.best_eta));
+        let mut u = inverse;
+        let (mut sum, mut numerator) = (pass.inverse_sum, pass.inverse_blend);
+        if !square {
+            (sum, numerator) = (T::ZERO, T::ZERO);
+            for (u, local) in u.iter_mut().zip(&local).take(c) {
+                *u = (pass.dmin * *u).powf(exponent); // (d²_min / d²_i)^(1/(m−1)) ≤ 1
+                sum = sum + *u;
+                numerator = numerator + *u * *local;
             }
         }
         let blended = numerator / sum;
         let scale = T::ONE / sum;
-        for (w, u) in weights.iter_mut().zip(&u) {
+        let mut dominant = 0u8;
+        let mut best_u = T::ZERO;
+        for (i, (w, u)) in weights.iter_mut().zip(&u).enumerate() {
             *w = *u * scale;
+            if *u > best_u {
+                best_u = *u;
+                dominant = i as u8;
+            }
         }
         (
             blended,
@@ -569,43 +581,49 @@ fn lagged_at<T: Real>(state: &[T], ring: usize, len: usize, head: u16, lag: usiz
 struct Pass<T> {
     /// Smallest squared distance.
     dmin: T,
+    /// Σ 1/d²_i and Σ y_i/d²_i: the memberships' sums for fuzziness 2.
+    inverse_sum: T,
+    inverse_blend: T,
     /// Squared distance and η of the regime with the smallest d²/η (the largest typicality).
     best_d2: T,
     best_eta: T,
 }
 
 /// One pass over the regimes' records for `p` antecedent variables: squared distance through
-/// the lower-triangular factor (`distance`, into `d2`, floored at 1e-30), then η, the offset and
-/// the consequent (into `local`).
+/// the lower-triangular factor (`distance`, floored at 1e-30; its reciprocal into `inverse`), then
+/// η, the offset and the consequent (into `local`).
 fn regime_pass<T: Real>(
     regimes: core::slice::ChunksExact<'_, u8>,
     p: usize,
     distance: fn(&[u8], &[T; MAX_ANTECEDENT]) -> T,
     scaled: &[T; MAX_ANTECEDENT],
     values: &[T],
-    d2: &mut [T; MAX_REGIMES],
+    inverse: &mut [T; MAX_REGIMES],
     local: &mut [T; MAX_REGIMES],
 ) -> Pass<T> {
     let tiny = T::from_f64(1e-30);
     let nr = values.len();
     let mut pass = Pass {
         dmin: T::from_f64(f64::MAX),
+        inverse_sum: T::ZERO,
+        inverse_blend: T::ZERO,
         best_d2: T::ONE, // ratio +∞ until a regime is seen
         best_eta: T::ZERO,
     };
     let geometry_bytes = 8 * (p + p * (p + 1) / 2);
-    for ((record, d2), local) in regimes.zip(d2).zip(local) {
+    for ((record, inverse), local) in regimes.zip(inverse).zip(local) {
         let (geometry, rest) = record.split_at(record.len().min(geometry_bytes));
         let total = distance(geometry, scaled);
-        *d2 = if total > tiny { total } else { tiny };
-        if *d2 < pass.dmin {
-            pass.dmin = *d2;
+        let d2 = if total > tiny { total } else { tiny };
+        *inverse = T::ONE / d2; // ≤ 1e30: finite in f32 too
+        if d2 < pass.dmin {
+            pass.dmin = d2;
         }
         // The largest typicality belongs to the smallest d²/η (the power is increasing);
         // compared as d²·η_best < d²_best·η (both positive), one division at the end.
         let [eta, offset] = fields::<T, 2>(rest);
-        if *d2 * pass.best_eta < pass.best_d2 * eta {
-            pass.best_d2 = *d2;
+        if d2 * pass.best_eta < pass.best_d2 * eta {
+            pass.best_d2 = d2;
             pass.best_eta = eta;
         }
         // Four partial sums: shorter dependency chains than one running sum. The
@@ -624,6 +642,8 @@ fn regime_pass<T: Real>(
             acc[0] = acc[0] + decode::<T>(c) * *v;
         }
         *local = offset + ((acc[0] + acc[1]) + (acc[2] + acc[3]));
+        pass.inverse_sum = pass.inverse_sum + *inverse;
+        pass.inverse_blend = pass.inverse_blend + *inverse * *local;
     }
     pass
 }
