@@ -398,6 +398,8 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
                 let j = usize::from(input) & (MAX_INPUTS - 1);
                 (layout.rings[j], layout.ring_len[j], heads[j])
             } else {
+                // This sample's output is not in its ring yet: the newest entry is y(k−1), so
+                // output lag L (≥ 1, checked by the view) is L − 1 entries back.
                 (layout.out_ring, layout.out_len, out_head)
             };
             let back = if source == 0 {
@@ -488,7 +490,9 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
                     )
                 }
                 Source::Output => {
-                    self.lagged(self.layout.out_ring, self.layout.out_len, reg.lag as usize)
+                    // The newest entry is y(k−1): lag L is L − 1 entries back.
+                    let back = (reg.lag as usize).wrapping_sub(1);
+                    self.lagged(self.layout.out_ring, self.layout.out_len, back)
                 }
             },
             None => T::NAN,

@@ -35,6 +35,80 @@ fn memberships_and_blend_match_the_hand_computation() {
 }
 
 #[test]
+fn memberships_for_fuzziness_other_than_two_follow_the_fcm_formula() {
+    // The tiny model with m = 1.5: u_i = (d²_min / d²_i)^(1/(m−1)) = (d²_min / d²_i)², the
+    // fuzzy c-means membership (Bezdek 1981), and τ_i = 1 / (1 + (d²_i / η_i)²).
+    let mut spec = tiny::tiny_model();
+    spec.target.fuzziness = 1.5;
+    let b = spec.to_bytes().expect("encode");
+    let model = ModelView::parse(&b).expect("valid");
+    let mut state = vec![0.0f64; state_words(&model)];
+    let mut e = Estimator::new(model, &mut state).expect("state");
+    let est = e.step(&[95.0]);
+    // d² = 0.25, 2.25 → u = 1, 1/81 → β = 81/82, 1/82.
+    let (b0, b1) = (81.0 / 82.0, 1.0 / 82.0);
+    assert!((e.weights()[0] - b0).abs() < 1e-15 && (e.weights()[1] - b1).abs() < 1e-15);
+    let y = b0 * (1.0 + 0.5 * 95.0) + b1 * (-2.0 + 0.25 * 95.0);
+    assert!((est.value - y).abs() < 1e-12, "{} vs {y}", est.value);
+    assert!((est.typicality - 1.0 / (1.0 + 0.0625)).abs() < 1e-15);
+}
+
+#[test]
+fn lagged_inputs_and_outputs_are_read_correctly_after_the_rings_wrap() {
+    use regimix_format::{Regressor, Source};
+    // One regime, so the estimate is its consequent:
+    // y[t] = 0.5 + 0.25·u0[t] − 0.5·u0[t−3] + 2·u1[t−1] + 0.3·y[t−2],
+    // with the output history started at the steady state of the first sample's inputs.
+    let mut spec = tiny::tiny_model();
+    spec.inputs.push(spec.inputs[0].clone());
+    spec.regressors = vec![
+        Regressor {
+            source: Source::Input(0),
+            lag: 0,
+        },
+        Regressor {
+            source: Source::Input(0),
+            lag: 3,
+        },
+        Regressor {
+            source: Source::Input(1),
+            lag: 1,
+        },
+        Regressor {
+            source: Source::Output,
+            lag: 2,
+        },
+    ];
+    spec.regimes.truncate(1);
+    spec.regimes[0].offset = 0.5;
+    spec.regimes[0].coefficients = vec![0.25, -0.5, 2.0, 0.3];
+    spec.target.domain_threshold = 0.0;
+    let b = spec.to_bytes().expect("encode");
+    let model = ModelView::parse(&b).expect("valid");
+    let mut state = vec![0.0f64; state_words(&model)];
+    let mut e = Estimator::new(model, &mut state).expect("state");
+
+    let u0 = |t: usize| 100.0 + 7.0 * (t as f64 * 0.7).sin();
+    let u1 = |t: usize| 90.0 + 5.0 * (t as f64 * 0.3).cos();
+    let mut y: Vec<f64> = Vec::new();
+    let start = (0.5 + (0.25 - 0.5) * u0(0) + 2.0 * u1(0)) / (1.0 - 0.3);
+    for t in 0..40usize {
+        // Before any history, lagged inputs read the first sample (the rings start filled).
+        let past = |f: &dyn Fn(usize) -> f64, lag: usize| f(t.saturating_sub(lag));
+        let y2 = if t >= 2 { y[t - 2] } else { start };
+        let expected = 0.5 + 0.25 * u0(t) - 0.5 * past(&u0, 3) + 2.0 * past(&u1, 1) + 0.3 * y2;
+        let est = e.step(&[u0(t), u1(t)]);
+        assert!(
+            (est.value - expected).abs() < 1e-9,
+            "t = {t}: {} vs {expected}",
+            est.value
+        );
+        assert_eq!(est.status.has(Status::WARMING_UP), t < 3, "t = {t}");
+        y.push(est.value);
+    }
+}
+
+#[test]
 fn invalid_inputs_are_held_then_fall_back() {
     let b = bytes();
     let model = ModelView::parse(&b).expect("valid");
