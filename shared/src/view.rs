@@ -164,9 +164,10 @@ impl<'a> ModelView<'a> {
         Self::parse_checked(bytes)
     }
 
-    /// [`parse`](Self::parse) without the CRC-32 and model-id checks, for bytes already
-    /// validated once (the C interface re-opens its model on every call). Every other check runs,
-    /// so any input is still safe.
+    /// [`parse`](Self::parse) without the CRC-32, model-id, UTF-8 and number checks, for bytes
+    /// already validated once (the C interface re-opens its model on every call). The layout and
+    /// index checks still run, so any input is still safe: a string that is not UTF-8 reads as
+    /// empty, a non-finite number gives a flagged estimate.
     pub fn parse_trusted(bytes: &'a [u8]) -> Result<ModelView<'a>, DecodeError> {
         if bytes.len() < HEADER_LEN + TRAILER_LEN || bytes.get(0..4) != Some(&MAGIC[..]) {
             return Err(DecodeError::BadMagic);
@@ -174,13 +175,13 @@ impl<'a> ModelView<'a> {
         if read_u32(bytes, 8)? as usize != bytes.len() {
             return Err(DecodeError::LengthMismatch);
         }
-        let mut view = Self::layout(bytes)?;
+        let mut view = Self::layout(bytes, false)?;
         view.model_id = read_u64(bytes, 32)?;
         Ok(view)
     }
 
     fn parse_checked(bytes: &'a [u8]) -> Result<ModelView<'a>, DecodeError> {
-        let view = Self::layout(bytes)?;
+        let view = Self::layout(bytes, true)?;
         let body_end = bytes.len() - TRAILER_LEN;
         let body = bytes
             .get(HEADER_LEN..body_end)
@@ -192,7 +193,9 @@ impl<'a> ModelView<'a> {
         Ok(view)
     }
 
-    fn layout(bytes: &'a [u8]) -> Result<ModelView<'a>, DecodeError> {
+    /// Section offsets and the checks that keep every accessor in bounds; `check_text` also
+    /// requires the strings to be UTF-8.
+    fn layout(bytes: &'a [u8], check_text: bool) -> Result<ModelView<'a>, DecodeError> {
         let n_inputs = read_u16(bytes, 12)? as usize;
         let n_regimes = read_u16(bytes, 14)? as usize;
         let n_regressors = read_u16(bytes, 16)? as usize;
@@ -226,7 +229,7 @@ impl<'a> ModelView<'a> {
             let text = bytes
                 .get(at + 1..at + 1 + len)
                 .ok_or(DecodeError::BadLayout)?;
-            if core::str::from_utf8(text).is_err() {
+            if check_text && core::str::from_utf8(text).is_err() {
                 return Err(DecodeError::BadString);
             }
             at += 1 + len;

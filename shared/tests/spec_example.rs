@@ -113,3 +113,26 @@ fn spec_round_trips_through_the_view() {
         regimix_format::encode::ModelSpec::from_view(&ModelView::parse(&bytes).expect("valid"));
     assert_eq!(back, spec);
 }
+
+/// `parse_trusted` (the C interface's re-open on every call) skips the CRC and the UTF-8 check
+/// but keeps the layout checks: a corrupted tag byte reads as an empty tag, while a corrupted
+/// count is still rejected. `parse` rejects both.
+#[test]
+fn trusted_parse_skips_text_checks_but_not_layout_checks() {
+    let bytes = tiny::tiny_model().to_bytes().expect("encode");
+    let view = ModelView::parse(&bytes).expect("valid");
+    let tag_at = bytes
+        .windows(4)
+        .position(|w| w == b"TI-1")
+        .expect("input tag in the file");
+    let mut text = bytes.clone();
+    text[tag_at] = 0xFF; // not UTF-8
+    assert!(ModelView::parse(&text).is_err());
+    let trusted = ModelView::parse_trusted(&text).expect("layout intact");
+    assert_eq!(trusted.input_tag(0), "");
+    assert_eq!(trusted.n_regimes(), view.n_regimes());
+    let mut count = bytes.clone();
+    count[14] = 17; // regimes above MAX_REGIMES
+    assert!(ModelView::parse(&count).is_err());
+    assert!(ModelView::parse_trusted(&count).is_err());
+}
