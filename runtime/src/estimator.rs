@@ -354,9 +354,9 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
     }
 
     /// Memberships (into the weights slots), typicality and the blended consequent, given the
-    /// input rings' heads after this sample's push and the inputs standardized ((x − mean) / std). Returns (blended model-domain estimate,
-    /// largest typicality, dominant regime). The hot path: every model field is read straight
-    /// from the validated bytes.
+    /// input rings' heads after this sample's push and the inputs standardized, (x − mean) / std.
+    /// Returns (blended model-domain estimate, largest typicality, dominant regime). The hot
+    /// path: every model field is read straight from the validated bytes.
     fn evaluate(
         &mut self,
         fuzziness: f64,
