@@ -10,10 +10,11 @@ use crate::status::{LabOutcome, Status};
 /// Where each part of the state lives, in words of the state slice.
 #[derive(Debug, Clone, Copy)]
 struct Layout {
-    rings: [usize; MAX_INPUTS],
-    ring_len: [usize; MAX_INPUTS],
-    out_ring: usize,
-    out_len: usize,
+    /// Word of each ring's head index (its values follow): the inputs' rings, then the output's
+    /// at [`OUTPUT`].
+    rings: [usize; RINGS],
+    /// Values in each ring.
+    ring_len: [usize; RINGS],
     lab_ring: usize,
     lab_len: usize,
     weights: usize,
@@ -27,12 +28,17 @@ const BIAS: usize = 1;
 const LAST: usize = 2;
 const HEADER_WORDS: usize = 3;
 
+/// Rings in [`Layout`]: one per input, then the output's.
+const RINGS: usize = MAX_INPUTS + 1;
+/// Index of the output's ring in [`Layout`].
+const OUTPUT: usize = MAX_INPUTS;
+
 impl Layout {
     fn of(model: &ModelView<'_>) -> Layout {
         let n = model.n_inputs();
         let mut at = HEADER_WORDS;
-        let mut rings = [0; MAX_INPUTS];
-        let mut ring_len = [0; MAX_INPUTS];
+        let mut rings = [0; RINGS];
+        let mut ring_len = [0; RINGS];
         let mut warmup = model.max_output_lag() as usize;
         for j in 0..n.min(MAX_INPUTS) {
             // One block per input, read in one piece by `step`: last good value, samples since
@@ -43,9 +49,9 @@ impl Layout {
             at += 3 + len;
             warmup = warmup.max(len - 1);
         }
-        let out_ring = at;
-        let out_len = model.max_output_lag() as usize + 1;
-        at += 1 + out_len;
+        rings[OUTPUT] = at;
+        ring_len[OUTPUT] = model.max_output_lag() as usize + 1;
+        at += 1 + ring_len[OUTPUT];
         let lab_ring = at;
         let lab_len = model.lab_window() as usize + 1;
         at += 1 + lab_len;
@@ -57,8 +63,6 @@ impl Layout {
         Layout {
             rings,
             ring_len,
-            out_ring,
-            out_len,
             lab_ring,
             lab_len,
             weights,
@@ -169,7 +173,7 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         for ring in layout.rings[..n]
             .iter()
             .copied()
-            .chain([layout.out_ring, layout.lab_ring])
+            .chain([layout.rings[OUTPUT], layout.lab_ring])
         {
             self.set(ring, T::from_index(0)); // head index
         }
@@ -246,7 +250,7 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         let [_, target_low, target_high, fuzziness, threshold] =
             fields::<f64, 5>(model.target_record());
         let hold = T::from_f64(f64::from(model.hold_limit()));
-        let mut heads = [0u16; MAX_INPUTS];
+        let mut heads = [0u16; RINGS];
         let mut standardized = [T::ZERO; MAX_INPUTS];
         let blocks = self.layout.rings.iter().zip(&self.layout.ring_len);
         for (((&x, record), (head_out, standard)), (&ring, &len)) in inputs
@@ -302,16 +306,20 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         // regimes' records.
         if first && model.uses_output_lags() {
             // Start the output history at the blended steady state (needs the memberships).
-            self.evaluate(fuzziness, &heads, &standardized);
+            self.evaluate(fuzziness, &mut heads, &standardized);
             let start = self.steady_state();
-            self.fill(self.layout.out_ring, self.layout.out_len, start);
+            self.fill(
+                self.layout.rings[OUTPUT],
+                self.layout.ring_len[OUTPUT],
+                start,
+            );
         }
-        let (y, typicality, dominant) = self.evaluate(fuzziness, &heads, &standardized);
+        let (y, typicality, dominant) = self.evaluate(fuzziness, &mut heads, &standardized);
         if !(typicality >= T::from_f64(threshold)) {
             status |= Status::OUT_OF_DOMAIN;
         }
         if model.uses_output_lags() {
-            self.push(self.layout.out_ring, self.layout.out_len, y);
+            self.push(self.layout.rings[OUTPUT], self.layout.ring_len[OUTPUT], y);
         }
         let trusted = status & Status::UNTRUSTED == 0 && y.is_finite();
         self.push(
@@ -360,7 +368,7 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
     fn evaluate(
         &mut self,
         fuzziness: f64,
-        heads: &[u16; MAX_INPUTS],
+        heads: &mut [u16; RINGS],
         standardized: &[T; MAX_INPUTS],
     ) -> (T, T, u8) {
         use regimix_format::limits::MAX_REGRESSORS;
@@ -386,57 +394,53 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
             *s = standardized[j];
         }
 
-        let out_head = head_of(history, layout.out_ring, layout.out_len) as u16;
+        heads[OUTPUT] = head_of(history, layout.rings[OUTPUT], layout.ring_len[OUTPUT]) as u16;
         for (v, record) in values.iter_mut().zip(model.regressor_records()) {
             let &[source, input, lag0, lag1] = record else {
                 continue;
             };
-            let lag = usize::from(u16::from_le_bytes([lag0, lag1]));
-            let (ring, len, head) = if source == 0 {
-                // The view checked `input < n_inputs ≤ MAX_INPUTS`; the mask only keeps the
-                // index provably in bounds (MAX_INPUTS is a power of two).
-                let j = usize::from(input) & (MAX_INPUTS - 1);
-                (layout.rings[j], layout.ring_len[j], heads[j])
+            let output = source != 0;
+            // The view checked `input < n_inputs ≤ MAX_INPUTS`; the mask only keeps the index
+            // provably in bounds (MAX_INPUTS is a power of two).
+            let ring = if output {
+                OUTPUT
             } else {
-                // This sample's output is not in its ring yet: the newest entry is y(k−1), so
-                // output lag L (≥ 1, checked by the view) is L − 1 entries back.
-                (layout.out_ring, layout.out_len, out_head)
+                usize::from(input) & (MAX_INPUTS - 1)
             };
-            let back = if source == 0 {
-                lag
-            } else {
-                lag.wrapping_sub(1)
-            };
-            *v = lagged_at(history, ring, len, head, back);
+            // This sample's output is not in its ring yet: the newest entry is y(k−1), so output
+            // lag L (≥ 1, checked by the view) is L − 1 entries back.
+            let back =
+                usize::from(u16::from_le_bytes([lag0, lag1])).wrapping_sub(usize::from(output));
+            *v = lagged_at(
+                history,
+                layout.rings[ring],
+                layout.ring_len[ring],
+                heads[ring],
+                back,
+            );
         }
         let values = &*values;
 
-        let mut inverse = [T::ZERO; MAX_REGIMES];
         let regimes = model.regime_records();
-        let distance = match p {
-            1 => distance_with::<T, 1>,
-            2 => distance_with::<T, 2>,
-            3 => distance_with::<T, 3>,
-            4 => distance_with::<T, 4>,
-            5 => distance_with::<T, 5>,
-            6 => distance_with::<T, 6>,
-            7 => distance_with::<T, 7>,
-            8 => distance_with::<T, 8>,
-            9 => distance_with::<T, 9>,
-            10 => distance_with::<T, 10>,
-            11 => distance_with::<T, 11>,
-            _ => distance_with::<T, 12>,
+        let distances = match p {
+            1 => distances_with::<T, 1>,
+            2 => distances_with::<T, 2>,
+            3 => distances_with::<T, 3>,
+            4 => distances_with::<T, 4>,
+            5 => distances_with::<T, 5>,
+            6 => distances_with::<T, 6>,
+            7 => distances_with::<T, 7>,
+            8 => distances_with::<T, 8>,
+            9 => distances_with::<T, 9>,
+            10 => distances_with::<T, 10>,
+            11 => distances_with::<T, 11>,
+            _ => distances_with::<T, 12>,
         };
+        // Squared distances, then (in place) their reciprocals: u_i for fuzziness 2.
+        let mut u = [T::ZERO; MAX_REGIMES];
+        distances(regimes.clone(), &scaled, &mut u);
         let mut local = [T::ZERO; MAX_REGIMES];
-        let pass = regime_pass(
-            regimes,
-            p,
-            distance,
-            &scaled,
-            values,
-            &mut inverse,
-            &mut local,
-        );
+        let pass = regime_pass(regimes, p, values, &mut u, &mut local);
 
         // Memberships β_i = u_i / Σu with u_i = (d²_min / d²_i)^(1/(m−1)). For m = 2 the scale
         // of u cancels, so u_i = 1/d²_i and both sums come from the regime pass: the estimate
@@ -446,7 +450,6 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         let exponent = T::from_f64(1.0 / (m - 1.0));
         let power = |x: T| if square { x } else { x.powf(exponent) };
         let typicality = T::ONE / (T::ONE + power(pass.best_d2 / pass.best_eta));
-        let mut u = inverse;
         let (mut sum, mut numerator) = (pass.inverse_sum, pass.inverse_blend);
         if !square {
             (sum, numerator) = (T::ZERO, T::ZERO);
@@ -492,7 +495,11 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
                 Source::Output => {
                     // The newest entry is y(k−1): lag L is L − 1 entries back.
                     let back = (reg.lag as usize).wrapping_sub(1);
-                    self.lagged(self.layout.out_ring, self.layout.out_len, back)
+                    self.lagged(
+                        self.layout.rings[OUTPUT],
+                        self.layout.ring_len[OUTPUT],
+                        back,
+                    )
                 }
             },
             None => T::NAN,
@@ -593,16 +600,14 @@ struct Pass<T> {
     best_eta: T,
 }
 
-/// One pass over the regimes' records for `p` antecedent variables: squared distance through
-/// the lower-triangular factor (`distance`, floored at 1e-30; its reciprocal into `inverse`), then
-/// η, the offset and the consequent (into `local`).
+/// One pass over the regimes' records for `p` antecedent variables, given their squared
+/// distances in `d2` ([`distances_with`]): floors each d² at 1e-30 and replaces it by its
+/// reciprocal, then reads η, the offset and the consequent (into `local`).
 fn regime_pass<T: Real>(
     regimes: core::slice::ChunksExact<'_, u8>,
     p: usize,
-    distance: fn(&[u8], &[T; MAX_ANTECEDENT]) -> T,
-    scaled: &[T; MAX_ANTECEDENT],
     values: &[T],
-    inverse: &mut [T; MAX_REGIMES],
+    d2: &mut [T; MAX_REGIMES],
     local: &mut [T; MAX_REGIMES],
 ) -> Pass<T> {
     let tiny = T::from_f64(1e-30);
@@ -615,9 +620,9 @@ fn regime_pass<T: Real>(
         best_eta: T::ZERO,
     };
     let geometry_bytes = 8 * (p + p * (p + 1) / 2);
-    for ((record, inverse), local) in regimes.zip(inverse).zip(local) {
-        let (geometry, rest) = record.split_at(record.len().min(geometry_bytes));
-        let total = distance(geometry, scaled);
+    for ((record, inverse), local) in regimes.zip(d2).zip(local) {
+        let total = *inverse;
+        let rest = record.get(geometry_bytes..).unwrap_or(&[]);
         let d2 = if total > tiny { total } else { tiny };
         *inverse = T::ONE / d2; // ≤ 1e30: finite in f32 too
         if d2 < pass.dmin {
@@ -652,13 +657,25 @@ fn regime_pass<T: Real>(
     pass
 }
 
-/// ‖F (x − c)‖² for `P` antecedent variables, `geometry` holding c then F's rows packed
-/// (little-endian f64; NaN if it is too short). Every dimension up to `MAX_ANTECEDENT` gets its
-/// own copy (chosen once per sample), so the loops unroll and the byte-range checks fold into
-/// one: this is the hot spot of `step` (the twelve copies take about 2 KiB of flash on a
-/// Cortex-M4F).
-fn distance_with<T: Real, const P: usize>(geometry: &[u8], x: &[T; MAX_ANTECEDENT]) -> T {
-    let Some(geometry) = geometry.get(..8 * (P + P * (P + 1) / 2)) else {
+/// ‖F (x − c)‖² of every regime for `P` antecedent variables, into `d2`; each record starts
+/// with c then F's rows packed (little-endian f64; NaN if a record is too short). Every dimension
+/// up to `MAX_ANTECEDENT` gets its own copy (chosen once per sample), so the loops unroll and the
+/// byte-range checks fold into one per regime: this is the hot spot of `step` (the twelve copies
+/// take about 2 KiB of flash on a Cortex-M4F).
+fn distances_with<T: Real, const P: usize>(
+    regimes: core::slice::ChunksExact<'_, u8>,
+    x: &[T; MAX_ANTECEDENT],
+    d2: &mut [T; MAX_REGIMES],
+) {
+    for (record, d2) in regimes.zip(d2) {
+        *d2 = distance::<T, P>(record, x);
+    }
+}
+
+/// ‖F (x − c)‖² of one regime's record (see [`distances_with`]).
+#[inline(always)]
+fn distance<T: Real, const P: usize>(record: &[u8], x: &[T; MAX_ANTECEDENT]) -> T {
+    let Some(geometry) = record.get(..8 * (P + P * (P + 1) / 2)) else {
         return T::NAN;
     };
     let word = |k: usize| geometry.get(8 * k..8 * k + 8).map_or(T::NAN, decode);
@@ -666,15 +683,17 @@ fn distance_with<T: Real, const P: usize>(geometry: &[u8], x: &[T; MAX_ANTECEDEN
     for a in 0..P {
         diff[a] = x[a] - word(a);
     }
+    // Sums start from their first term, not from zero: `0.0 + x` is not `x` (for x = −0.0), so
+    // the compiler would keep every such addition.
     let mut total = T::ZERO;
     let mut at = P;
     for row in 0..P {
-        let mut y = T::ZERO;
-        // `0..row + 1`, not `0..=row`: inclusive ranges defeat unrolling.
-        for k in 0..row + 1 {
+        let mut y = word(at) * diff[0];
+        // `1..row + 1`, not `1..=row`: inclusive ranges defeat unrolling.
+        for k in 1..row + 1 {
             y = y + word(at + k) * diff[k];
         }
-        total = total + y * y;
+        total = if row == 0 { y * y } else { total + y * y };
         at += row + 1;
     }
     total
