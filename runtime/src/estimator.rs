@@ -622,32 +622,38 @@ fn regime_pass<T: Real>(
     let geometry_bytes = 8 * (p + p * (p + 1) / 2);
     for ((record, inverse), local) in regimes.zip(d2).zip(local) {
         let total = *inverse;
-        let rest = record.get(geometry_bytes..).unwrap_or(&[]);
         let d2 = if total > tiny { total } else { tiny };
         *inverse = T::ONE / d2; // ≤ 1e30: finite in f32 too
         if d2 < pass.dmin {
             pass.dmin = d2;
         }
+        // After the geometry: η, the offset, then one coefficient per regressor. Sliced to the
+        // exact length once, so the reads below need no further range checks.
+        let Some(rest) = record.get(geometry_bytes..geometry_bytes + 16 + 8 * nr) else {
+            *local = T::NAN;
+            pass.inverse_blend = T::NAN;
+            continue;
+        };
+        let (head, coefficients) = rest.split_at(16);
         // The largest typicality belongs to the smallest d²/η (the power is increasing);
         // compared as d²·η_best < d²_best·η (both positive), one division at the end.
-        let [eta, offset] = fields::<T, 2>(rest);
+        let [eta, offset] = fields::<T, 2>(head);
         if d2 * pass.best_eta < pass.best_d2 * eta {
             pass.best_d2 = d2;
             pass.best_eta = eta;
         }
-        // Four partial sums: shorter dependency chains than one running sum. The
-        // coefficients are read four at a time, one range check per four.
+        // Four partial sums: shorter dependency chains than one running sum.
         let mut acc = [T::ZERO; 4];
-        let coefficients = rest.get(16..).unwrap_or(&[]);
-        let mut words = coefficients.chunks_exact(32);
-        let mut chunks = values.chunks_exact(4);
-        for (vs, cs) in (&mut chunks).zip(&mut words) {
+        let words = coefficients.chunks_exact(32);
+        let tail = words.remainder();
+        let chunks = values.chunks_exact(4);
+        let remainder = chunks.remainder();
+        for (vs, cs) in chunks.zip(words) {
             for (k, (a, v)) in acc.iter_mut().zip(vs).enumerate() {
                 *a = *a + decode::<T>(&cs[8 * k..8 * k + 8]) * *v;
             }
         }
-        let tail = coefficients.get(32 * (nr / 4)..).unwrap_or(&[]);
-        for (v, c) in chunks.remainder().iter().zip(tail.chunks_exact(8)) {
+        for (v, c) in remainder.iter().zip(tail.chunks_exact(8)) {
             acc[0] = acc[0] + decode::<T>(c) * *v;
         }
         *local = offset + ((acc[0] + acc[1]) + (acc[2] + acc[3]));
@@ -663,37 +669,79 @@ fn regime_pass<T: Real>(
 /// byte-range checks fold into one per regime: this is the hot spot of `step` (the twelve copies
 /// take about 2 KiB of flash on a Cortex-M4F).
 fn distances_with<T: Real, const P: usize>(
-    regimes: core::slice::ChunksExact<'_, u8>,
+    mut regimes: core::slice::ChunksExact<'_, u8>,
     x: &[T; MAX_ANTECEDENT],
     d2: &mut [T; MAX_REGIMES],
 ) {
-    for (record, d2) in regimes.zip(d2) {
-        *d2 = distance::<T, P>(record, x);
+    // `LANES` regimes at a time, in lockstep: the same operations in the same order as one at a
+    // time (identical results), but where the target has vector registers they pair up.
+    for out in d2.chunks_exact_mut(LANES) {
+        let mut records: [&[u8]; LANES] = [&[]; LANES];
+        let mut n = 0;
+        for (slot, record) in records.iter_mut().zip(&mut regimes) {
+            *slot = record;
+            n += 1;
+        }
+        if n == LANES {
+            out.copy_from_slice(&distance::<T, P, LANES>(records, x));
+        } else {
+            for (o, record) in out.iter_mut().zip(&records[..n]) {
+                *o = distance::<T, P, 1>([record], x)[0];
+            }
+            return;
+        }
     }
 }
 
-/// ‖F (x − c)‖² of one regime's record (see [`distances_with`]).
+/// Regimes whose distances [`distances_with`] computes in lockstep: two where the target has
+/// two-lane `f64` vector registers (SSE2 on x86-64, NEON on AArch64), else one: a Cortex-M4F has
+/// none, and pairing would only add code (about 7 KiB of flash).
+const LANES: usize = if cfg!(any(target_arch = "x86_64", target_arch = "aarch64")) {
+    2
+} else {
+    1
+};
+
+/// ‖F (x − c)‖² of `L` regimes' records in lockstep (see [`distances_with`]).
 #[inline(always)]
-fn distance<T: Real, const P: usize>(record: &[u8], x: &[T; MAX_ANTECEDENT]) -> T {
-    let Some(geometry) = record.get(..8 * (P + P * (P + 1) / 2)) else {
-        return T::NAN;
-    };
-    let word = |k: usize| geometry.get(8 * k..8 * k + 8).map_or(T::NAN, decode);
-    let mut diff = [T::ZERO; P];
+fn distance<T: Real, const P: usize, const L: usize>(
+    records: [&[u8]; L],
+    x: &[T; MAX_ANTECEDENT],
+) -> [T; L] {
+    let geometry = records.map(|r| r.get(..8 * (P + P * (P + 1) / 2)));
+    let mut total = [T::NAN; L];
+    if geometry.iter().any(Option::is_none) {
+        return total;
+    }
+    let geometry = geometry.map(Option::unwrap_or_default);
+    let word = |lane: usize, k: usize| geometry[lane].get(8 * k..8 * k + 8).map_or(T::NAN, decode);
+    let mut diff = [[T::ZERO; L]; P];
     for a in 0..P {
-        diff[a] = x[a] - word(a);
+        for lane in 0..L {
+            diff[a][lane] = x[a] - word(lane, a);
+        }
     }
     // Sums start from their first term, not from zero: `0.0 + x` is not `x` (for x = −0.0), so
     // the compiler would keep every such addition.
-    let mut total = T::ZERO;
     let mut at = P;
     for row in 0..P {
-        let mut y = word(at) * diff[0];
+        let mut y = [T::ZERO; L];
+        for lane in 0..L {
+            y[lane] = word(lane, at) * diff[0][lane];
+        }
         // `1..row + 1`, not `1..=row`: inclusive ranges defeat unrolling.
         for k in 1..row + 1 {
-            y = y + word(at + k) * diff[k];
+            for lane in 0..L {
+                y[lane] = y[lane] + word(lane, at + k) * diff[k][lane];
+            }
         }
-        total = if row == 0 { y * y } else { total + y * y };
+        for lane in 0..L {
+            total[lane] = if row == 0 {
+                y[lane] * y[lane]
+            } else {
+                total[lane] + y[lane] * y[lane]
+            };
+        }
         at += row + 1;
     }
     total
@@ -718,5 +766,72 @@ fn decode<T: Real>(bytes: &[u8]) -> T {
     match bytes {
         &[a, b, c, d, e, f, g, h] => T::from_f64(f64::from_le_bytes([a, b, c, d, e, f, g, h])),
         _ => T::NAN,
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Regime records of `p` variables: center then the factor's rows packed, then η, the offset
+    /// and `tail` more words (as a consequent would follow).
+    fn records(c: usize, p: usize, tail: usize) -> (std::vec::Vec<u8>, usize) {
+        let words = p + p * (p + 1) / 2 + 2 + tail;
+        let mut bytes = std::vec::Vec::new();
+        for i in 0..c {
+            for k in 0..words {
+                // Irregular values so that a mixed-up lane or word shows.
+                let v = ((i * 31 + k * 17) % 23) as f64 / 7.0 - 1.3;
+                bytes.extend_from_slice(&v.to_le_bytes());
+            }
+        }
+        (bytes, 8 * words)
+    }
+
+    /// ‖F (x − c)‖² written as the definition reads, in the kernel's order of operations.
+    fn by_definition(record: &[u8], p: usize, x: &[f64]) -> f64 {
+        let w =
+            |k: usize| f64::from_le_bytes(record[8 * k..8 * k + 8].try_into().expect("8 bytes"));
+        let diff: std::vec::Vec<f64> = (0..p).map(|a| x[a] - w(a)).collect();
+        let mut total = 0.0;
+        let mut at = p;
+        for row in 0..p {
+            let mut y = w(at) * diff[0];
+            for k in 1..=row {
+                y += w(at + k) * diff[k];
+            }
+            total = if row == 0 { y * y } else { total + y * y };
+            at += row + 1;
+        }
+        total
+    }
+
+    #[test]
+    fn distances_match_the_definition_for_every_regime_count() {
+        let x = [
+            0.4, -1.1, 2.2, 0.05, -0.7, 1.9, 0.0, 0.3, -0.2, 1.0, -2.0, 0.6,
+        ];
+        for c in 1..=MAX_REGIMES {
+            let (bytes, len) = records(c, 6, 3);
+            let mut d2 = [f64::NAN; MAX_REGIMES];
+            distances_with::<f64, 6>(bytes.chunks_exact(len), &x, &mut d2);
+            for (i, record) in bytes.chunks_exact(len).enumerate() {
+                // Exact: the lockstep lanes do the same operations in the same order.
+                assert_eq!(d2[i], by_definition(record, 6, &x), "c = {c}, regime {i}");
+            }
+            assert!(
+                d2[c..].iter().all(|d| d.is_nan()),
+                "c = {c}: wrote past the regimes"
+            );
+        }
+    }
+
+    #[test]
+    fn a_short_record_gives_nan_distances() {
+        let (bytes, _) = records(2, 3, 0);
+        let mut d2 = [0.0f64; MAX_REGIMES];
+        // Records of 16 bytes cannot hold 3 center values and 6 factor entries.
+        distances_with::<f64, 3>(bytes.chunks_exact(16), &[0.0; MAX_ANTECEDENT], &mut d2);
+        assert!(d2[..2].iter().all(|d| d.is_nan()));
     }
 }
