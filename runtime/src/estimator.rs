@@ -122,6 +122,70 @@ pub struct Estimator<'m, 's, T: Real> {
     model: ModelView<'m>,
     state: &'s mut [T],
     layout: Layout,
+    hot: Hot<'m, T>,
+}
+
+/// Signature of the squared-distance kernels ([`distances_with`]).
+type DistanceKernel<T> =
+    fn(core::slice::ChunksExact<'_, u8>, &[T; MAX_ANTECEDENT], &mut [T; MAX_REGIMES]);
+
+/// What `step` reads from the model on every sample, looked up once when an estimator is set
+/// up: the sections as record iterators (range-checked then), the target's limits and the
+/// distance kernel for the antecedent's dimension.
+#[derive(Debug, Clone)]
+struct Hot<'m, T> {
+    inputs: core::slice::ChunksExact<'m, u8>,
+    antecedent: core::slice::ChunksExact<'m, u8>,
+    regressors: core::slice::ChunksExact<'m, u8>,
+    regimes: core::slice::ChunksExact<'m, u8>,
+    /// Antecedent variables, regressors and regimes, each capped at its limit.
+    p: usize,
+    nr: usize,
+    c: usize,
+    distances: DistanceKernel<T>,
+    target_low: f64,
+    target_high: f64,
+    fuzziness: f64,
+    threshold: T,
+    hold: T,
+}
+
+impl<'m, T: Real> Hot<'m, T> {
+    fn of(model: &ModelView<'m>) -> Self {
+        use regimix_format::limits::MAX_REGRESSORS;
+        // Section B's first five fields (the rest serve lab results).
+        let [_, target_low, target_high, fuzziness, threshold] =
+            fields::<f64, 5>(model.target_record());
+        let p = model.n_antecedent().min(MAX_ANTECEDENT);
+        Hot {
+            inputs: model.input_records(),
+            antecedent: model.antecedent_records(),
+            regressors: model.regressor_records(),
+            regimes: model.regime_records(),
+            p,
+            nr: model.n_regressors().min(MAX_REGRESSORS),
+            c: model.n_regimes().min(MAX_REGIMES),
+            distances: match p {
+                1 => distances_with::<T, 1>,
+                2 => distances_with::<T, 2>,
+                3 => distances_with::<T, 3>,
+                4 => distances_with::<T, 4>,
+                5 => distances_with::<T, 5>,
+                6 => distances_with::<T, 6>,
+                7 => distances_with::<T, 7>,
+                8 => distances_with::<T, 8>,
+                9 => distances_with::<T, 9>,
+                10 => distances_with::<T, 10>,
+                11 => distances_with::<T, 11>,
+                _ => distances_with::<T, 12>,
+            },
+            target_low,
+            target_high,
+            fuzziness,
+            threshold: T::from_f64(threshold),
+            hold: T::from_f64(f64::from(model.hold_limit())),
+        }
+    }
 }
 
 impl<'m, 's, T: Real> Estimator<'m, 's, T> {
@@ -138,6 +202,7 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
             model,
             state,
             layout,
+            hot: Hot::of(&model),
         };
         e.reset();
         Ok(e)
@@ -157,6 +222,7 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
             model,
             state,
             layout,
+            hot: Hot::of(&model),
         })
     }
 
@@ -246,16 +312,13 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
             return self.fallback(Status::WRONG_INPUT_COUNT, T::ZERO, 0);
         }
         let first = !(self.get(COUNT).to_f64() > 0.0);
-        // Section B's first five fields, read with one range check (the rest serve lab results).
-        let [_, target_low, target_high, fuzziness, threshold] =
-            fields::<f64, 5>(model.target_record());
-        let hold = T::from_f64(f64::from(model.hold_limit()));
+        let hold = self.hot.hold;
         let mut heads = [0u16; RINGS];
         let mut standardized = [T::ZERO; MAX_INPUTS];
         let blocks = self.layout.rings.iter().zip(&self.layout.ring_len);
         for (((&x, record), (head_out, standard)), (&ring, &len)) in inputs
             .iter()
-            .zip(model.input_records())
+            .zip(self.hot.inputs.clone())
             .zip(heads.iter_mut().zip(standardized.iter_mut()))
             .zip(blocks)
         {
@@ -306,7 +369,7 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         // regimes' records.
         if first && model.uses_output_lags() {
             // Start the output history at the blended steady state (needs the memberships).
-            self.evaluate(fuzziness, &mut heads, &standardized);
+            self.evaluate(&mut heads, &standardized);
             let start = self.steady_state();
             self.fill(
                 self.layout.rings[OUTPUT],
@@ -314,8 +377,8 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
                 start,
             );
         }
-        let (y, typicality, dominant) = self.evaluate(fuzziness, &mut heads, &standardized);
-        if !(typicality >= T::from_f64(threshold)) {
+        let (y, typicality, dominant) = self.evaluate(&mut heads, &standardized);
+        if !(typicality >= self.hot.threshold) {
             status |= Status::OUT_OF_DOMAIN;
         }
         if model.uses_output_lags() {
@@ -332,6 +395,7 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         }
         let biased = (y + self.get(BIAS)).to_f64();
         let mut value = self.transform().inverse(biased);
+        let (target_low, target_high) = (self.hot.target_low, self.hot.target_high);
         if !(value >= target_low) || !(value <= target_high) {
             status |= Status::CLIPPED;
             value = if value > target_high {
@@ -365,18 +429,10 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
     /// input rings' heads after this sample's push and the inputs standardized, (x − mean) / std.
     /// Returns (blended model-domain estimate, largest typicality, dominant regime). The hot
     /// path: every model field is read straight from the validated bytes.
-    fn evaluate(
-        &mut self,
-        fuzziness: f64,
-        heads: &mut [u16; RINGS],
-        standardized: &[T; MAX_INPUTS],
-    ) -> (T, T, u8) {
-        use regimix_format::limits::MAX_REGRESSORS;
-        let model = &self.model;
+    fn evaluate(&mut self, heads: &mut [u16; RINGS], standardized: &[T; MAX_INPUTS]) -> (T, T, u8) {
+        let hot = &self.hot;
         let layout = &self.layout;
-        let p = model.n_antecedent().min(MAX_ANTECEDENT);
-        let nr = model.n_regressors().min(MAX_REGRESSORS);
-        let c = model.n_regimes().min(MAX_REGIMES);
+        let (p, nr, c) = (hot.p, hot.nr, hot.c);
         // The history (read) and the scratch words (written) are disjoint parts of the state.
         let (history, scratch) = self
             .state
@@ -385,7 +441,7 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         let values = values.get_mut(..nr).unwrap_or(&mut []);
 
         let mut scaled = [T::ZERO; MAX_ANTECEDENT];
-        for (s, record) in scaled.iter_mut().zip(model.antecedent_records()) {
+        for (s, record) in scaled.iter_mut().zip(hot.antecedent.clone()) {
             let &[j0, j1, ..] = record else {
                 continue;
             };
@@ -395,7 +451,7 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         }
 
         heads[OUTPUT] = head_of(history, layout.rings[OUTPUT], layout.ring_len[OUTPUT]) as u16;
-        for (v, record) in values.iter_mut().zip(model.regressor_records()) {
+        for (v, record) in values.iter_mut().zip(hot.regressors.clone()) {
             let &[source, input, lag0, lag1] = record else {
                 continue;
             };
@@ -421,31 +477,16 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         }
         let values = &*values;
 
-        let regimes = model.regime_records();
-        let distances = match p {
-            1 => distances_with::<T, 1>,
-            2 => distances_with::<T, 2>,
-            3 => distances_with::<T, 3>,
-            4 => distances_with::<T, 4>,
-            5 => distances_with::<T, 5>,
-            6 => distances_with::<T, 6>,
-            7 => distances_with::<T, 7>,
-            8 => distances_with::<T, 8>,
-            9 => distances_with::<T, 9>,
-            10 => distances_with::<T, 10>,
-            11 => distances_with::<T, 11>,
-            _ => distances_with::<T, 12>,
-        };
         // Squared distances, then (in place) their reciprocals: u_i for fuzziness 2.
         let mut u = [T::ZERO; MAX_REGIMES];
-        distances(regimes.clone(), &scaled, &mut u);
+        (hot.distances)(hot.regimes.clone(), &scaled, &mut u);
         let mut local = [T::ZERO; MAX_REGIMES];
-        let pass = regime_pass(regimes, p, values, &mut u, &mut local);
+        let pass = regime_pass(hot.regimes.clone(), p, values, &mut u, &mut local);
 
         // Memberships β_i = u_i / Σu with u_i = (d²_min / d²_i)^(1/(m−1)). For m = 2 the scale
         // of u cancels, so u_i = 1/d²_i and both sums come from the regime pass: the estimate
         // then waits for one division after the last regime.
-        let m = fuzziness;
+        let m = hot.fuzziness;
         let square = m == 2.0;
         let exponent = T::from_f64(1.0 / (m - 1.0));
         let power = |x: T| if square { x } else { x.powf(exponent) };
