@@ -11,10 +11,11 @@ use crate::status::{LabOutcome, Status};
 #[derive(Debug, Clone, Copy)]
 struct Layout {
     /// Word of each ring's head index (its values follow): the inputs' rings, then the output's
-    /// at [`OUTPUT`].
-    rings: [usize; RINGS],
+    /// at [`OUTPUT`]. 32-bit: the C interface rebuilds the layout on every call, so it is kept
+    /// small (state indices stay below 2^16 at the format's limits).
+    rings: [u32; RINGS],
     /// Values in each ring.
-    ring_len: [usize; RINGS],
+    ring_len: [u32; RINGS],
     lab_ring: usize,
     lab_len: usize,
     weights: usize,
@@ -34,6 +35,13 @@ const RINGS: usize = MAX_INPUTS + 1;
 const OUTPUT: usize = MAX_INPUTS;
 
 impl Layout {
+    /// Ring `i`'s head word and its number of values.
+    #[inline]
+    fn ring(&self, i: usize) -> (usize, usize) {
+        let at = self.rings.get(i).map_or(0, |&w| w as usize);
+        (at, self.ring_len.get(i).map_or(1, |&w| w as usize))
+    }
+
     fn of(model: &ModelView<'_>) -> Layout {
         let n = model.n_inputs();
         let mut at = HEADER_WORDS;
@@ -44,14 +52,15 @@ impl Layout {
             // One block per input, read in one piece by `step`: last good value, samples since
             // it, then the ring (head index, values).
             let len = model.max_input_lag(j) as usize + 1;
-            rings[j] = at + 2;
-            ring_len[j] = len;
+            rings[j] = (at + 2) as u32;
+            ring_len[j] = len as u32;
             at += 3 + len;
             warmup = warmup.max(len - 1);
         }
-        rings[OUTPUT] = at;
-        ring_len[OUTPUT] = model.max_output_lag() as usize + 1;
-        at += 1 + ring_len[OUTPUT];
+        let out_len = model.max_output_lag() as usize + 1;
+        rings[OUTPUT] = at as u32;
+        ring_len[OUTPUT] = out_len as u32;
+        at += 1 + out_len;
         let lab_ring = at;
         let lab_len = model.lab_window() as usize + 1;
         at += 1 + lab_len;
@@ -236,10 +245,10 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         self.set(BIAS, if bias.is_finite() { bias } else { T::ZERO });
         let n = self.model.n_inputs().min(MAX_INPUTS);
         let layout = self.layout;
-        for ring in layout.rings[..n]
-            .iter()
-            .copied()
-            .chain([layout.rings[OUTPUT], layout.lab_ring])
+        for ring in (0..n)
+            .chain([OUTPUT])
+            .map(|i| layout.ring(i).0)
+            .chain([layout.lab_ring])
         {
             self.set(ring, T::from_index(0)); // head index
         }
@@ -323,6 +332,7 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
             .zip(blocks)
         {
             let [low, high, mean, std] = fields::<T, 4>(record);
+            let (ring, len) = (ring as usize, len as usize);
             let block = self.state.get_mut(ring.wrapping_sub(2)..ring + 1 + len);
             let Some([last, age, head, values @ ..]) = block else {
                 continue;
@@ -371,18 +381,16 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
             // Start the output history at the blended steady state (needs the memberships).
             self.evaluate(&mut heads, &standardized);
             let start = self.steady_state();
-            self.fill(
-                self.layout.rings[OUTPUT],
-                self.layout.ring_len[OUTPUT],
-                start,
-            );
+            let (ring, len) = self.layout.ring(OUTPUT);
+            self.fill(ring, len, start);
         }
         let (y, typicality, dominant) = self.evaluate(&mut heads, &standardized);
         if !(typicality >= self.hot.threshold) {
             status |= Status::OUT_OF_DOMAIN;
         }
         if model.uses_output_lags() {
-            self.push(self.layout.rings[OUTPUT], self.layout.ring_len[OUTPUT], y);
+            let (ring, len) = self.layout.ring(OUTPUT);
+            self.push(ring, len, y);
         }
         let trusted = status & Status::UNTRUSTED == 0 && y.is_finite();
         self.push(
@@ -450,7 +458,8 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
             *s = standardized[j];
         }
 
-        heads[OUTPUT] = head_of(history, layout.rings[OUTPUT], layout.ring_len[OUTPUT]) as u16;
+        let (out_ring, out_len) = layout.ring(OUTPUT);
+        heads[OUTPUT] = head_of(history, out_ring, out_len) as u16;
         for (v, record) in values.iter_mut().zip(hot.regressors.clone()) {
             let &[source, input, lag0, lag1] = record else {
                 continue;
@@ -467,13 +476,8 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
             // lag L (≥ 1, checked by the view) is L − 1 entries back.
             let back =
                 usize::from(u16::from_le_bytes([lag0, lag1])).wrapping_sub(usize::from(output));
-            *v = lagged_at(
-                history,
-                layout.rings[ring],
-                layout.ring_len[ring],
-                heads[ring],
-                back,
-            );
+            let (at, len) = layout.ring(ring);
+            *v = lagged_at(history, at, len, heads[ring], back);
         }
         let values = &*values;
 
@@ -524,25 +528,15 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
 
     fn regressor_value(&self, r: usize) -> T {
         match self.model.regressor(r) {
-            Some(reg) => match reg.source {
-                Source::Input(j) => {
-                    let j = (j as usize).min(MAX_INPUTS - 1);
-                    self.lagged(
-                        self.layout.rings[j],
-                        self.layout.ring_len[j],
-                        reg.lag as usize,
-                    )
-                }
-                Source::Output => {
+            Some(reg) => {
+                let (ring, back) = match reg.source {
+                    Source::Input(j) => ((j as usize).min(MAX_INPUTS - 1), reg.lag as usize),
                     // The newest entry is y(k−1): lag L is L − 1 entries back.
-                    let back = (reg.lag as usize).wrapping_sub(1);
-                    self.lagged(
-                        self.layout.rings[OUTPUT],
-                        self.layout.ring_len[OUTPUT],
-                        back,
-                    )
-                }
-            },
+                    Source::Output => (OUTPUT, (reg.lag as usize).wrapping_sub(1)),
+                };
+                let (at, len) = self.layout.ring(ring);
+                self.lagged(at, len, back)
+            }
             None => T::NAN,
         }
     }
