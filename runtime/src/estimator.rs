@@ -143,7 +143,8 @@ type DistanceKernel<T> =
 /// distance kernel for the antecedent's dimension.
 #[derive(Debug, Clone)]
 struct Hot<'m, T> {
-    inputs: core::slice::ChunksExact<'m, u8>,
+    /// Section C, one 32-byte record per input.
+    inputs: &'m [u8],
     antecedent: core::slice::ChunksExact<'m, u8>,
     regressors: core::slice::ChunksExact<'m, u8>,
     regimes: core::slice::ChunksExact<'m, u8>,
@@ -167,7 +168,7 @@ impl<'m, T: Real> Hot<'m, T> {
             fields::<f64, 5>(model.target_record());
         let p = model.n_antecedent().min(MAX_ANTECEDENT);
         Hot {
-            inputs: model.input_records(),
+            inputs: model.input_section(),
             antecedent: model.antecedent_records(),
             regressors: model.regressor_records(),
             regimes: model.regime_records(),
@@ -327,7 +328,7 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         let blocks = self.layout.rings.iter().zip(&self.layout.ring_len);
         for (((&x, record), (head_out, standard)), (&ring, &len)) in inputs
             .iter()
-            .zip(self.hot.inputs.clone())
+            .zip(self.hot.inputs.chunks_exact(32))
             .zip(heads.iter_mut().zip(standardized.iter_mut()))
             .zip(blocks)
         {
@@ -355,9 +356,6 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
                     }
                 }
             };
-            if first {
-                values.fill(effective);
-            }
             // Push: heads are bit patterns below `len` (see `head_of`).
             let next = head.to_index().wrapping_add(1);
             let h = if next < values.len() { next } else { 0 };
@@ -367,6 +365,14 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
             }
             *head_out = h as u16;
             *standard = (effective - mean) / std;
+        }
+        if first {
+            // Start every input's history at its first value.
+            for j in 0..n.min(MAX_INPUTS) {
+                let (ring, len) = self.layout.ring(j);
+                let newest = self.lagged(ring, len, 0);
+                self.fill(ring, len, newest);
+            }
         }
         let count = self.get(COUNT).to_f64();
         let count = if count.is_finite() { count } else { 0.0 };

@@ -546,8 +546,13 @@ impl<'a> ModelView<'a> {
     /// the runtime's hot path. The fields were validated by [`parse`](Self::parse).
     #[inline]
     pub fn input_records(&self) -> core::slice::ChunksExact<'a, u8> {
+        self.input_section().chunks_exact(32)
+    }
+    /// Section C's bytes, [`input_records`](Self::input_records) not yet split: kept by the
+    /// runtime, which splits it with a constant record size on every sample.
+    #[inline]
+    pub fn input_section(&self) -> &'a [u8] {
         self.section(self.inputs, 32 * self.n_inputs)
-            .chunks_exact(32)
     }
     /// Input `j`'s 32-byte record of section C (empty past the last input).
     #[inline]

@@ -89,6 +89,9 @@ fn record_accessors_agree_with_field_accessors() {
         assert_eq!(m.input_record(j), record);
     }
     assert!(m.input_record(3).is_empty());
+    // The unsplit section is the three records back to back.
+    assert_eq!(m.input_section().len(), 3 * 32);
+    assert_eq!(&m.input_section()[32..64], m.input_record(1));
 
     let t = m.target();
     let target: Vec<f64> = (0..9).map(|k| word(m.target_record(), k)).collect();
