@@ -708,7 +708,7 @@ fn regime_pass<T: Real>(
 /// with c then F's rows packed (little-endian f64; NaN if a record is too short). Every dimension
 /// up to `MAX_ANTECEDENT` gets its own copy (chosen once per sample), so the loops unroll and the
 /// byte-range checks fold into one per regime: this is the hot spot of `step` (the twelve copies
-/// take about 2 KiB of flash on a Cortex-M4F).
+/// take about 5 KiB of flash on a Cortex-M4F).
 fn distances_with<T: Real, const P: usize>(
     mut regimes: core::slice::ChunksExact<'_, u8>,
     x: &[T; MAX_ANTECEDENT],
