@@ -77,6 +77,19 @@ fn demo_build_writes_everything_and_beats_the_linear_model() {
         json["regimes"].as_array().expect("regimes").len() as u64,
         summary["regime_count"].as_u64().expect("count")
     );
+    // The settings a controller engineer checks: fuzziness (the config's default) and state size.
+    assert_eq!(json["fuzziness"].as_f64(), Some(2.0));
+    let words = json["state_words"].as_u64().expect("state words");
+    let text = regimix(dir.path(), &["inspect", "demo-out/model.rgmx"]);
+    let text = String::from_utf8_lossy(&text.stdout).to_string();
+    assert!(text.contains("(fuzziness 2)"), "{text}");
+    assert!(
+        text.contains(&format!(
+            "runtime state: {words} words ({} bytes in f64",
+            8 * words
+        )),
+        "{text}"
+    );
 }
 
 #[test]

@@ -32,6 +32,7 @@ struct Summary {
     antecedent: Vec<String>,
     hold_limit_samples: u16,
     lab_window_samples: u16,
+    fuzziness: f64,
     domain_threshold: f64,
     residual_sd: f64,
     bias_gain: f64,
@@ -80,6 +81,7 @@ fn summary(m: &ModelView<'_>) -> Summary {
             .collect(),
         hold_limit_samples: m.hold_limit(),
         lab_window_samples: m.lab_window(),
+        fuzziness: t.fuzziness,
         domain_threshold: t.domain_threshold,
         residual_sd: t.residual_sd,
         bias_gain: t.bias_gain,
@@ -88,6 +90,20 @@ fn summary(m: &ModelView<'_>) -> Summary {
         estimate_range: (t.low, t.high),
         state_words: regimix_runtime::state_words(m),
         regimes: regime_dynamics(m),
+    }
+}
+
+/// `v` to four significant digits, trailing zeros dropped (the text view; JSON keeps every digit).
+fn sig(v: f64) -> String {
+    if v == 0.0 || !v.is_finite() {
+        return format!("{v}");
+    }
+    let decimals = (3 - v.abs().log10().floor() as i32).clamp(0, 17) as usize;
+    let text = format!("{v:.decimals$}");
+    if text.contains('.') {
+        text.trim_end_matches('0').trim_end_matches('.').to_string()
+    } else {
+        text
     }
 }
 
@@ -132,14 +148,40 @@ pub fn run(path: &Path, json: bool) -> anyhow::Result<()> {
         }
     );
     println!("  regressors: {}", s.regressors.join(", "));
-    println!("  regimes scheduled on: {}", s.antecedent.join(", "));
     println!(
-        "  invalid inputs held {} samples; lab results up to {} samples old; bias gain {}, limit ±{}, outliers beyond {}·{}",
-        s.hold_limit_samples, s.lab_window_samples, s.bias_gain, s.bias_limit, s.outlier_k, s.residual_sd
+        "  estimates clipped to {} … {} {}",
+        sig(s.estimate_range.0),
+        sig(s.estimate_range.1),
+        s.target_unit
+    );
+    println!(
+        "  regimes scheduled on: {} (fuzziness {})",
+        s.antecedent.join(", "),
+        sig(s.fuzziness)
+    );
+    println!(
+        "  invalid inputs held {} samples; lab results up to {} samples old; bias gain {}, limit ±{}, outliers beyond {} × {} ({})",
+        s.hold_limit_samples,
+        s.lab_window_samples,
+        sig(s.bias_gain),
+        sig(s.bias_limit),
+        sig(s.outlier_k),
+        sig(s.residual_sd),
+        match model.transform() {
+            Transform::Identity => "bias and residuals in engineering units",
+            Transform::Log => "bias and residuals in the log domain",
+            Transform::Logit { .. } => "bias and residuals in the logit domain",
+        }
     );
     println!(
         "  out of trained domain below typicality {}",
-        s.domain_threshold
+        sig(s.domain_threshold)
+    );
+    println!(
+        "  runtime state: {} words ({} bytes in f64, {} in f32)",
+        s.state_words,
+        8 * s.state_words,
+        4 * s.state_words
     );
     println!("\nInputs");
     for i in &s.inputs {
@@ -174,7 +216,7 @@ pub fn run(path: &Path, json: bool) -> anyhow::Result<()> {
                 continue;
             }
             println!(
-                "  {:<16} gain {:>12.5} {}/{}  dead time {:>9}  time constant {:>9}",
+                "  {:<16} gain {:>12.5} {} per {}  dead time {:>9}  time constant {:>9}",
                 i.tag,
                 i.gain,
                 s.target_unit,
@@ -188,4 +230,21 @@ pub fn run(path: &Path, json: bool) -> anyhow::Result<()> {
         }
     }
     super::print_out(&out)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::sig;
+
+    #[test]
+    fn four_significant_digits_without_trailing_zeros() {
+        assert_eq!(sig(0.3335536133249638), "0.3336");
+        assert_eq!(sig(0.06671072266499276), "0.06671");
+        assert_eq!(sig(3.0), "3");
+        assert_eq!(sig(100.0), "100");
+        assert_eq!(sig(12345.6), "12346");
+        assert_eq!(sig(1e-6), "0.000001");
+        assert_eq!(sig(-2.5), "-2.5");
+        assert_eq!(sig(0.0), "0");
+    }
 }
