@@ -139,8 +139,8 @@ type DistanceKernel<T> =
     fn(core::slice::ChunksExact<'_, u8>, &[T; MAX_ANTECEDENT], &mut [T; MAX_REGIMES]);
 
 /// What `step` reads from the model on every sample, looked up once when an estimator is set
-/// up: the sections as record iterators (range-checked then), the target's limits and the
-/// distance kernel for the antecedent's dimension.
+/// up: the sections (range-checked then), the counts, the target's limits and the distance
+/// kernel for the antecedent's dimension.
 #[derive(Debug, Clone)]
 struct Hot<'m, T> {
     /// Section C, one 32-byte record per input.
