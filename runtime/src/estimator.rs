@@ -176,18 +176,18 @@ impl<'m, T: Real> Hot<'m, T> {
             nr: model.n_regressors().min(MAX_REGRESSORS),
             c: model.n_regimes().min(MAX_REGIMES),
             distances: match p {
-                1 => distances_with::<T, 1>,
-                2 => distances_with::<T, 2>,
-                3 => distances_with::<T, 3>,
-                4 => distances_with::<T, 4>,
-                5 => distances_with::<T, 5>,
-                6 => distances_with::<T, 6>,
-                7 => distances_with::<T, 7>,
-                8 => distances_with::<T, 8>,
-                9 => distances_with::<T, 9>,
-                10 => distances_with::<T, 10>,
-                11 => distances_with::<T, 11>,
-                _ => distances_with::<T, 12>,
+                1 => distances_with::<T, 1, LANES>,
+                2 => distances_with::<T, 2, LANES>,
+                3 => distances_with::<T, 3, LANES>,
+                4 => distances_with::<T, 4, LANES>,
+                5 => distances_with::<T, 5, LANES>,
+                6 => distances_with::<T, 6, LANES>,
+                7 => distances_with::<T, 7, LANES>,
+                8 => distances_with::<T, 8, LANES>,
+                9 => distances_with::<T, 9, LANES>,
+                10 => distances_with::<T, 10, LANES>,
+                11 => distances_with::<T, 11, LANES>,
+                _ => distances_with::<T, 12, LANES>,
             },
             target_low,
             target_high,
@@ -704,27 +704,28 @@ fn regime_pass<T: Real>(
     pass
 }
 
-/// ‖F (x − c)‖² of every regime for `P` antecedent variables, into `d2`; each record starts
+/// ‖F (x − c)‖² of every regime for `P` antecedent variables, into `d2`, `L` regimes at a
+/// time ([`LANES`] in `step`); each record starts
 /// with c then F's rows packed (little-endian f64; NaN if a record is too short). Every dimension
 /// up to `MAX_ANTECEDENT` gets its own copy (chosen once per sample), so the loops unroll and the
 /// byte-range checks fold into one per regime: this is the hot spot of `step` (the twelve copies
 /// take about 5 KiB of flash on a Cortex-M4F).
-fn distances_with<T: Real, const P: usize>(
+fn distances_with<T: Real, const P: usize, const L: usize>(
     mut regimes: core::slice::ChunksExact<'_, u8>,
     x: &[T; MAX_ANTECEDENT],
     d2: &mut [T; MAX_REGIMES],
 ) {
-    // `LANES` regimes at a time, in lockstep: the same operations in the same order as one at a
+    // `L` regimes at a time, in lockstep: the same operations in the same order as one at a
     // time (identical results), but where the target has vector registers they pair up.
-    for out in d2.chunks_exact_mut(LANES) {
-        let mut records: [&[u8]; LANES] = [&[]; LANES];
+    for out in d2.chunks_exact_mut(L) {
+        let mut records: [&[u8]; L] = [&[]; L];
         let mut n = 0;
         for (slot, record) in records.iter_mut().zip(&mut regimes) {
             *slot = record;
             n += 1;
         }
-        if n == LANES {
-            out.copy_from_slice(&distance::<T, P, LANES>(records, x));
+        if n == L {
+            out.copy_from_slice(&distance::<T, P, L>(records, x));
         } else {
             for (o, record) in out.iter_mut().zip(&records[..n]) {
                 *o = distance::<T, P, 1>([record], x)[0];
@@ -852,27 +853,37 @@ mod tests {
         let x = [
             0.4, -1.1, 2.2, 0.05, -0.7, 1.9, 0.0, 0.3, -0.2, 1.0, -2.0, 0.6,
         ];
-        for c in 1..=MAX_REGIMES {
-            let (bytes, len) = records(c, 6, 3);
-            let mut d2 = [f64::NAN; MAX_REGIMES];
-            distances_with::<f64, 6>(bytes.chunks_exact(len), &x, &mut d2);
-            for (i, record) in bytes.chunks_exact(len).enumerate() {
-                // Exact: the lockstep lanes do the same operations in the same order.
-                assert_eq!(d2[i], by_definition(record, 6, &x), "c = {c}, regime {i}");
+        // One lane is what a Cortex-M4F runs, two what x86-64 and AArch64 run.
+        let kernels: [DistanceKernel<f64>; 2] =
+            [distances_with::<f64, 6, 1>, distances_with::<f64, 6, 2>];
+        for (lanes, kernel) in kernels.into_iter().enumerate() {
+            for c in 1..=MAX_REGIMES {
+                let (bytes, len) = records(c, 6, 3);
+                let mut d2 = [f64::NAN; MAX_REGIMES];
+                kernel(bytes.chunks_exact(len), &x, &mut d2);
+                for (i, record) in bytes.chunks_exact(len).enumerate() {
+                    // Exact: the lockstep lanes do the same operations in the same order.
+                    let expected = by_definition(record, 6, &x);
+                    assert_eq!(d2[i], expected, "{} lanes, c = {c}, regime {i}", lanes + 1);
+                }
+                assert!(
+                    d2[c..].iter().all(|d| d.is_nan()),
+                    "c = {c}: wrote past the regimes"
+                );
             }
-            assert!(
-                d2[c..].iter().all(|d| d.is_nan()),
-                "c = {c}: wrote past the regimes"
-            );
         }
     }
 
     #[test]
     fn a_short_record_gives_nan_distances() {
         let (bytes, _) = records(2, 3, 0);
-        let mut d2 = [0.0f64; MAX_REGIMES];
         // Records of 16 bytes cannot hold 3 center values and 6 factor entries.
-        distances_with::<f64, 3>(bytes.chunks_exact(16), &[0.0; MAX_ANTECEDENT], &mut d2);
-        assert!(d2[..2].iter().all(|d| d.is_nan()));
+        let kernels: [DistanceKernel<f64>; 2] =
+            [distances_with::<f64, 3, 1>, distances_with::<f64, 3, 2>];
+        for kernel in kernels {
+            let mut d2 = [0.0f64; MAX_REGIMES];
+            kernel(bytes.chunks_exact(16), &[0.0; MAX_ANTECEDENT], &mut d2);
+            assert!(d2[..2].iter().all(|d| d.is_nan()));
+        }
     }
 }
