@@ -50,7 +50,8 @@ impl Layout {
         let mut warmup = model.max_output_lag() as usize;
         for j in 0..n.min(MAX_INPUTS) {
             // One block per input, read in one piece by `step`: last good value, samples since
-            // it, then the ring (head index, values).
+            // it, then the ring (head index, values). The blocks follow the header back to
+            // back: `step` splits them off in order.
             let len = model.max_input_lag(j) as usize + 1;
             rings[j] = (at + 2) as u32;
             ring_len[j] = len as u32;
@@ -325,17 +326,21 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         let hold = self.hot.hold;
         let mut heads = [0u16; RINGS];
         let mut standardized = [T::ZERO; MAX_INPUTS];
-        let blocks = self.layout.rings.iter().zip(&self.layout.ring_len);
-        for (((&x, record), (head_out, standard)), (&ring, &len)) in inputs
+        // The inputs' blocks follow the header back to back (see `Layout::of`): split off one
+        // at a time, one length check each.
+        let mut blocks = self.state.get_mut(HEADER_WORDS..).unwrap_or(&mut []);
+        for (((&x, record), (head_out, standard)), &len) in inputs
             .iter()
             .zip(self.hot.inputs.chunks_exact(32))
             .zip(heads.iter_mut().zip(standardized.iter_mut()))
-            .zip(blocks)
+            .zip(&self.layout.ring_len)
         {
             let [low, high, mean, std] = fields::<T, 4>(record);
-            let (ring, len) = (ring as usize, len as usize);
-            let block = self.state.get_mut(ring.wrapping_sub(2)..ring + 1 + len);
-            let Some([last, age, head, values @ ..]) = block else {
+            let Some((block, rest)) = blocks.split_at_mut_checked(3 + len as usize) else {
+                break;
+            };
+            blocks = rest;
+            let [last, age, head, values @ ..] = block else {
                 continue;
             };
             let effective = if x.is_finite() && x >= low && x <= high {
