@@ -1,6 +1,6 @@
 //! The per-sample estimator over a [`ModelView`] and caller-provided state.
 
-use regimix_format::limits::{MAX_ANTECEDENT, MAX_INPUTS, MAX_REGIMES};
+use regimix_format::limits::{MAX_ANTECEDENT, MAX_INPUTS, MAX_REGIMES, MAX_REGRESSORS};
 use regimix_format::transform::Transform;
 use regimix_format::{ModelView, Source};
 
@@ -146,8 +146,11 @@ type DistanceKernel<T> =
 struct Hot<'m, T> {
     /// Section C, one 32-byte record per input.
     inputs: &'m [u8],
-    antecedent: core::slice::ChunksExact<'m, u8>,
-    regressors: core::slice::ChunksExact<'m, u8>,
+    /// Input of each antecedent variable (the view checked each against the input count).
+    antecedent: [u8; MAX_ANTECEDENT],
+    /// Where each regressor's value lives: its ring (low byte) and, above, how far past the
+    /// ring's head it sits, `len − back` ([`tap`]).
+    taps: [u32; MAX_REGRESSORS],
     regimes: core::slice::ChunksExact<'m, u8>,
     /// Antecedent variables, regressors and regimes, each capped at its limit.
     p: usize,
@@ -162,16 +165,27 @@ struct Hot<'m, T> {
 }
 
 impl<'m, T: Real> Hot<'m, T> {
-    fn of(model: &ModelView<'m>) -> Self {
-        use regimix_format::limits::MAX_REGRESSORS;
+    fn of(model: &ModelView<'m>, layout: &Layout) -> Self {
         // Section B's first five fields (the rest serve lab results).
         let [_, target_low, target_high, fuzziness, threshold] =
             fields::<f64, 5>(model.target_record());
         let p = model.n_antecedent().min(MAX_ANTECEDENT);
         Hot {
             inputs: model.input_section(),
-            antecedent: model.antecedent_records(),
-            regressors: model.regressor_records(),
+            antecedent: core::array::from_fn(|a| {
+                if a < p {
+                    model.antecedent_input(a) as u8 // < n_inputs ≤ MAX_INPUTS
+                } else {
+                    0
+                }
+            }),
+            taps: core::array::from_fn(|r| {
+                model.regressor(r).map_or(0, |g| match g.source {
+                    Source::Input(j) => tap(layout, usize::from(j), usize::from(g.lag)),
+                    // The newest entry is y(k−1): lag L is L − 1 entries back.
+                    Source::Output => tap(layout, OUTPUT, usize::from(g.lag).saturating_sub(1)),
+                })
+            }),
             regimes: model.regime_records(),
             p,
             nr: model.n_regressors().min(MAX_REGRESSORS),
@@ -213,7 +227,7 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
             model,
             state,
             layout,
-            hot: Hot::of(&model),
+            hot: Hot::of(&model, &layout),
         };
         e.reset();
         Ok(e)
@@ -233,7 +247,7 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
             model,
             state,
             layout,
-            hot: Hot::of(&model),
+            hot: Hot::of(&model, &layout),
         })
     }
 
@@ -460,35 +474,36 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         let values = values.get_mut(..nr).unwrap_or(&mut []);
 
         let mut scaled = [T::ZERO; MAX_ANTECEDENT];
-        for (s, record) in scaled.iter_mut().zip(hot.antecedent.clone()) {
-            let &[j0, j1, ..] = record else {
-                continue;
-            };
-            // The view checked the index against n_inputs ≤ MAX_INPUTS (a power of two).
-            let j = usize::from(u16::from_le_bytes([j0, j1])) & (MAX_INPUTS - 1);
-            *s = standardized[j];
+        // Two at a time, as the distance kernels read them (see `values` below). An odd `p`
+        // fills one slot past the last variable, which the kernel does not read.
+        // MAX_INPUTS is a power of two: the mask only keeps the index provably in bounds.
+        let standard = |j: u8| standardized[usize::from(j) & (MAX_INPUTS - 1)];
+        let (pairs, _) = scaled.as_chunks_mut::<2>();
+        let (inputs, _) = hot.antecedent.as_chunks::<2>();
+        for (pair, &[j0, j1]) in pairs.iter_mut().zip(inputs).take(p.div_ceil(2)) {
+            *pair = [standard(j0), standard(j1)];
         }
 
         let (out_ring, out_len) = layout.ring(OUTPUT);
         heads[OUTPUT] = head_of(history, out_ring, out_len) as u16;
-        for (v, record) in values.iter_mut().zip(hot.regressors.clone()) {
-            let &[source, input, lag0, lag1] = record else {
-                continue;
-            };
-            let output = source != 0;
-            // The view checked `input < n_inputs ≤ MAX_INPUTS`; the mask only keeps the index
-            // provably in bounds (MAX_INPUTS is a power of two).
-            let ring = if output {
-                OUTPUT
-            } else {
-                usize::from(input) & (MAX_INPUTS - 1)
-            };
-            // This sample's output is not in its ring yet: the newest entry is y(k−1), so output
-            // lag L (≥ 1, checked by the view) is L − 1 entries back.
-            let back =
-                usize::from(u16::from_le_bytes([lag0, lag1])).wrapping_sub(usize::from(output));
+        let fetch = |tap: u32| {
+            let ring = (tap & 0xff) as usize;
             let (at, len) = layout.ring(ring);
-            *v = lagged_at(history, at, len, heads[ring], back);
+            let head = heads.get(ring).map_or(0, |&h| usize::from(h));
+            // head < len and 1 ≤ len − back ≤ len: one subtraction wraps (see `lagged_at`).
+            let i = head + (tap >> 8) as usize;
+            let i = if i >= len { i - len } else { i };
+            history.get(at + 1 + i).copied().unwrap_or(T::NAN)
+        };
+        // Stored two at a time: the consequents read them two at a time, and a wide read of
+        // two narrow writes waits for them to reach the cache.
+        let (pairs, odd) = values.as_chunks_mut::<2>();
+        let (tap_pairs, _) = hot.taps.as_chunks::<2>();
+        for (pair, &[t0, t1]) in pairs.iter_mut().zip(tap_pairs) {
+            *pair = [fetch(t0), fetch(t1)];
+        }
+        if let ([v], Some(&t)) = (odd, hot.taps.get(2 * pairs.len())) {
+            *v = fetch(t);
         }
         let values = &*values;
 
@@ -605,6 +620,14 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         self.set(BIAS, T::from_f64(updated));
         LabOutcome::Applied(updated)
     }
+}
+
+/// Regressor tap for `back` entries behind the newest of ring `ring` (see [`Hot::taps`]).
+fn tap(layout: &Layout, ring: usize, back: usize) -> u32 {
+    let (_, len) = layout.ring(ring);
+    // The view checked every lag against the rings' lengths (back < len ≤ MAX_LAG + 1).
+    let ahead = len - back.min(len - 1);
+    (ahead as u32) << 8 | ring as u32
 }
 
 /// Index of the newest entry of the ring at `ring` (`len` values); always below `len` (a
