@@ -18,6 +18,8 @@ struct Layout {
     ring_len: [u32; RINGS],
     lab_ring: usize,
     lab_len: usize,
+    /// First of the regressors' taps ([`tap`]), one word each, written by `reset`.
+    taps: usize,
     weights: usize,
     total: usize,
     warmup: usize,
@@ -65,6 +67,10 @@ impl Layout {
         let lab_ring = at;
         let lab_len = model.lab_window() as usize + 1;
         at += 1 + lab_len;
+        // Where each regressor's value lives, worked out once by `reset` (so that the C
+        // interface, which re-opens the estimator on every call, does not redo it).
+        let taps = at;
+        at += model.n_regressors();
         let weights = at;
         at += model.n_regimes();
         // Then scratch for the regressor values of the sample being evaluated: kept in the
@@ -75,6 +81,7 @@ impl Layout {
             ring_len,
             lab_ring,
             lab_len,
+            taps,
             weights,
             total: at,
             warmup,
@@ -148,9 +155,6 @@ struct Hot<'m, T> {
     inputs: &'m [u8],
     /// Input of each antecedent variable (the view checked each against the input count).
     antecedent: [u8; MAX_ANTECEDENT],
-    /// Where each regressor's value lives: its ring (low byte) and, above, how far past the
-    /// ring's head it sits, `len − back` ([`tap`]).
-    taps: [u32; MAX_REGRESSORS],
     regimes: core::slice::ChunksExact<'m, u8>,
     /// Antecedent variables, regressors and regimes, each capped at its limit.
     p: usize,
@@ -165,27 +169,20 @@ struct Hot<'m, T> {
 }
 
 impl<'m, T: Real> Hot<'m, T> {
-    fn of(model: &ModelView<'m>, layout: &Layout) -> Self {
+    fn of(model: &ModelView<'m>) -> Self {
         // Section B's first five fields (the rest serve lab results).
         let [_, target_low, target_high, fuzziness, threshold] =
             fields::<f64, 5>(model.target_record());
         let p = model.n_antecedent().min(MAX_ANTECEDENT);
+        // Built on every call of the C interface: only the model's own entries, from the raw
+        // records (the view checked them).
+        let mut antecedent = [0u8; MAX_ANTECEDENT];
+        for (slot, record) in antecedent.iter_mut().zip(model.antecedent_records()) {
+            *slot = record.first().copied().unwrap_or(0); // input < n_inputs ≤ MAX_INPUTS
+        }
         Hot {
             inputs: model.input_section(),
-            antecedent: core::array::from_fn(|a| {
-                if a < p {
-                    model.antecedent_input(a) as u8 // < n_inputs ≤ MAX_INPUTS
-                } else {
-                    0
-                }
-            }),
-            taps: core::array::from_fn(|r| {
-                model.regressor(r).map_or(0, |g| match g.source {
-                    Source::Input(j) => tap(layout, usize::from(j), usize::from(g.lag)),
-                    // The newest entry is y(k−1): lag L is L − 1 entries back.
-                    Source::Output => tap(layout, OUTPUT, usize::from(g.lag).saturating_sub(1)),
-                })
-            }),
+            antecedent,
             regimes: model.regime_records(),
             p,
             nr: model.n_regressors().min(MAX_REGRESSORS),
@@ -227,7 +224,7 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
             model,
             state,
             layout,
-            hot: Hot::of(&model, &layout),
+            hot: Hot::of(&model),
         };
         e.reset();
         Ok(e)
@@ -247,7 +244,7 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
             model,
             state,
             layout,
-            hot: Hot::of(&model, &layout),
+            hot: Hot::of(&model),
         })
     }
 
@@ -267,6 +264,19 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
             .chain([layout.lab_ring])
         {
             self.set(ring, T::from_index(0)); // head index
+        }
+        for (r, record) in self.model.regressor_records().enumerate() {
+            let &[source, input, lag0, lag1] = record else {
+                continue;
+            };
+            let lag = usize::from(u16::from_le_bytes([lag0, lag1]));
+            let tap = if source == 0 {
+                tap(&layout, usize::from(input), lag)
+            } else {
+                // The newest entry is y(k−1): lag L is L − 1 entries back.
+                tap(&layout, OUTPUT, lag.saturating_sub(1))
+            };
+            self.set(layout.taps + r, T::from_index(tap));
         }
     }
 
@@ -486,23 +496,28 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
 
         let (out_ring, out_len) = layout.ring(OUTPUT);
         heads[OUTPUT] = head_of(history, out_ring, out_len) as u16;
-        let fetch = |tap: u32| {
-            let ring = (tap & 0xff) as usize;
+        // Each regressor's tap ([`tap`], written by `reset`): its ring in the low byte, how far
+        // past the ring's head its value sits above it.
+        let taps = history.get(layout.taps..layout.taps + nr).unwrap_or(&[]);
+        let fetch = |tap: T| {
+            let tap = tap.to_index();
+            let ring = tap & 0xff;
             let (at, len) = layout.ring(ring);
             let head = heads.get(ring).map_or(0, |&h| usize::from(h));
-            // head < len and 1 ≤ len − back ≤ len: one subtraction wraps (see `lagged_at`).
-            let i = head + (tap >> 8) as usize;
+            // head < len and 1 ≤ len − back ≤ len: one subtraction wraps (see `lagged_at`); a
+            // corrupted tap reads some word of the state or NaN.
+            let i = head + (tap >> 8);
             let i = if i >= len { i - len } else { i };
             history.get(at + 1 + i).copied().unwrap_or(T::NAN)
         };
         // Stored two at a time: the consequents read them two at a time, and a wide read of
         // two narrow writes waits for them to reach the cache.
         let (pairs, odd) = values.as_chunks_mut::<2>();
-        let (tap_pairs, _) = hot.taps.as_chunks::<2>();
+        let (tap_pairs, _) = taps.as_chunks::<2>();
         for (pair, &[t0, t1]) in pairs.iter_mut().zip(tap_pairs) {
             *pair = [fetch(t0), fetch(t1)];
         }
-        if let ([v], Some(&t)) = (odd, hot.taps.get(2 * pairs.len())) {
+        if let ([v], Some(&t)) = (odd, taps.get(2 * pairs.len())) {
             *v = fetch(t);
         }
         let values = &*values;
@@ -622,7 +637,8 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
     }
 }
 
-/// Regressor tap for `back` entries behind the newest of ring `ring` (see [`Hot::taps`]).
+/// Regressor tap for `back` entries behind the newest of ring `ring`: the ring in the low byte,
+/// above it `len − back`, how far past the ring's head the value sits.
 fn tap(layout: &Layout, ring: usize, back: usize) -> u32 {
     let (_, len) = layout.ring(ring);
     // The view checked every lag against the rings' lengths (back < len ≤ MAX_LAG + 1).
