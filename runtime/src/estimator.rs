@@ -367,7 +367,8 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
             let [last, age, head, values @ ..] = block else {
                 continue;
             };
-            let effective = if x.is_finite() && x >= low && x <= high {
+            // The view checked that the bounds are finite.
+            let effective = if x.within(low, high) {
                 *last = x;
                 *age = T::ZERO;
                 x

@@ -27,6 +27,10 @@ pub trait Real:
     fn to_f64(self) -> f64;
     /// Finite (not NaN, not infinite).
     fn is_finite(self) -> bool;
+    /// Finite and within `[low, high]`, for finite `low` and `high` as converted from the
+    /// file's `f64` (the comparisons alone then reject NaN and ±∞; an `f32` bound can overflow
+    /// to ±∞, so the `f32` check also tests finiteness).
+    fn within(self, low: Self, high: Self) -> bool;
     /// `self^e` (libm).
     fn powf(self, e: Self) -> Self;
     /// Absolute value.
@@ -51,6 +55,9 @@ impl Real for f64 {
     }
     fn is_finite(self) -> bool {
         f64::is_finite(self)
+    }
+    fn within(self, low: Self, high: Self) -> bool {
+        self >= low && self <= high
     }
     fn powf(self, e: Self) -> Self {
         libm::pow(self, e)
@@ -80,6 +87,9 @@ impl Real for f32 {
     fn is_finite(self) -> bool {
         f32::is_finite(self)
     }
+    fn within(self, low: Self, high: Self) -> bool {
+        self.is_finite() && self >= low && self <= high
+    }
     fn powf(self, e: Self) -> Self {
         libm::powf(self, e)
     }
@@ -91,5 +101,26 @@ impl Real for f32 {
     }
     fn to_index(self) -> usize {
         self.to_bits() as usize
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::Real;
+
+    #[test]
+    fn within_rejects_nan_and_infinities_for_finite_bounds() {
+        for x in [f64::NAN, f64::INFINITY, f64::NEG_INFINITY, -0.5, 2.5] {
+            assert!(!x.within(-0.25, 2.0), "{x}");
+        }
+        for x in [-0.25, 0.0, 1.0, 2.0] {
+            assert!(x.within(-0.25, 2.0), "{x}");
+        }
+        // A finite f64 bound beyond f32's range converts to +∞ in f32: ∞ must still fail.
+        let high = <f32 as Real>::from_f64(1e300);
+        assert_eq!(high, f32::INFINITY);
+        assert!(!f32::INFINITY.within(0.0, high));
+        assert!(!f32::NAN.within(0.0, high));
+        assert!(3.0e38f32.within(0.0, high));
     }
 }
