@@ -155,6 +155,7 @@ struct Hot<'m, T> {
     inputs: &'m [u8],
     /// Input of each antecedent variable (the view checked each against the input count).
     antecedent: [u8; MAX_ANTECEDENT],
+    /// Section F in blocks of two regimes (an odd last regime is the remainder).
     regimes: core::slice::ChunksExact<'m, u8>,
     /// Antecedent variables, regressors and regimes, each capped at its limit.
     p: usize,
@@ -183,7 +184,7 @@ impl<'m, T: Real> Hot<'m, T> {
         Hot {
             inputs: model.input_section(),
             antecedent,
-            regimes: model.regime_records(),
+            regimes: model.regime_pairs(),
             p,
             nr: model.n_regressors().min(MAX_REGRESSORS),
             c: model.n_regimes().min(MAX_REGIMES),
@@ -527,7 +528,7 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         let mut u = [T::ZERO; MAX_REGIMES];
         (hot.distances)(hot.regimes.clone(), &scaled, &mut u);
         let mut local = [T::ZERO; MAX_REGIMES];
-        let pass = regime_pass(hot.regimes.clone(), p, values, &mut u, &mut local);
+        let pass = regime_pass(hot.regimes.clone(), p, c, values, &mut u, &mut local);
 
         // Memberships β_i = u_i / Σu with u_i = (d²_min / d²_i)^(1/(m−1)). For m = 2 the scale
         // of u cancels, so u_i = 1/d²_i and both sums come from the regime pass: the estimate
@@ -686,18 +687,19 @@ struct Pass<T> {
     best_eta: T,
 }
 
-/// One pass over the regimes' records for `p` antecedent variables, given their squared
-/// distances in `d2` ([`distances_with`]): floors each d² at 1e-30 and replaces it by its
-/// reciprocal, then reads η, the offset and the consequent (into `local`).
+/// One pass over the first `c` regimes for `p` antecedent variables (section F's blocks of two
+/// regimes with their words interleaved), given their squared distances in `d2`
+/// ([`distances_with`]): the consequents two regimes at a time ([`consequents`]), then, one
+/// regime at a time and in order, each d² floored at 1e-30 and replaced by its reciprocal, the
+/// smallest d², the largest typicality and the membership sums.
 fn regime_pass<T: Real>(
-    regimes: core::slice::ChunksExact<'_, u8>,
+    pairs: core::slice::ChunksExact<'_, u8>,
     p: usize,
+    c: usize,
     values: &[T],
     d2: &mut [T; MAX_REGIMES],
     local: &mut [T; MAX_REGIMES],
 ) -> Pass<T> {
-    let tiny = T::from_f64(1e-30);
-    let nr = values.len();
     let mut pass = Pass {
         dmin: T::from_f64(f64::MAX),
         inverse_sum: T::ZERO,
@@ -705,77 +707,107 @@ fn regime_pass<T: Real>(
         best_d2: T::ONE, // ratio +∞ until a regime is seen
         best_eta: T::ZERO,
     };
-    let geometry_bytes = 8 * (p + p * (p + 1) / 2);
-    for ((record, inverse), local) in regimes.zip(d2).zip(local) {
-        let total = *inverse;
-        let d2 = if total > tiny { total } else { tiny };
-        *inverse = T::ONE / d2; // ≤ 1e30: finite in f32 too
-        if d2 < pass.dmin {
-            pass.dmin = d2;
-        }
-        // After the geometry: η, the offset, then one coefficient per regressor. Sliced to the
-        // exact length once, so the reads below need no further range checks.
-        let Some(rest) = record.get(geometry_bytes..geometry_bytes + 16 + 8 * nr) else {
-            *local = T::NAN;
-            pass.inverse_blend = T::NAN;
-            continue;
-        };
-        let (head, coefficients) = rest.split_at(16);
-        // The largest typicality belongs to the smallest d²/η (the power is increasing);
-        // compared as d²·η_best < d²_best·η (both positive), one division at the end.
-        let [eta, offset] = fields::<T, 2>(head);
-        if d2 * pass.best_eta < pass.best_d2 * eta {
-            pass.best_d2 = d2;
-            pass.best_eta = eta;
-        }
-        // Four partial sums: shorter dependency chains than one running sum.
-        let mut acc = [T::ZERO; 4];
-        let words = coefficients.chunks_exact(32);
-        let tail = words.remainder();
-        let chunks = values.chunks_exact(4);
-        let remainder = chunks.remainder();
-        for (vs, cs) in chunks.zip(words) {
-            for (k, (a, v)) in acc.iter_mut().zip(vs).enumerate() {
-                *a = *a + decode::<T>(&cs[8 * k..8 * k + 8]) * *v;
+    // η, the offset and the coefficients follow the center and the factor.
+    let geometry = p + p * (p + 1) / 2;
+    // An odd count's padding regime gets no slot.
+    let mut slots = d2.iter_mut().zip(local.iter_mut()).take(c);
+    for block in pairs {
+        for (eta, output) in consequents::<T, 2>(block, geometry, values) {
+            if let Some((inverse, local)) = slots.next() {
+                pass.add(inverse, local, eta, output);
             }
         }
-        for (v, c) in remainder.iter().zip(tail.chunks_exact(8)) {
-            acc[0] = acc[0] + decode::<T>(c) * *v;
-        }
-        *local = offset + ((acc[0] + acc[1]) + (acc[2] + acc[3]));
-        pass.inverse_sum = pass.inverse_sum + *inverse;
-        pass.inverse_blend = pass.inverse_blend + *inverse * *local;
     }
     pass
 }
 
-/// ‖F (x − c)‖² of every regime for `P` antecedent variables, into `d2`, `L` regimes at a
-/// time ([`LANES`] in `step`); each record starts
-/// with c then F's rows packed (little-endian f64; NaN if a record is too short). Every dimension
-/// up to `MAX_ANTECEDENT` gets its own copy (chosen once per sample), so the loops unroll and the
-/// byte-range checks fold into one per regime: this is the hot spot of `step` (the twelve copies
-/// take about 5 KiB of flash on a Cortex-M4F).
+impl<T: Real> Pass<T> {
+    /// Takes in the next regime: `inverse` holds its d² on entry and 1/d² on return; `eta` is
+    /// its typicality scale and `output` its local model's output (stored into `local`).
+    #[inline(always)]
+    fn add(&mut self, inverse: &mut T, local: &mut T, eta: T, output: T) {
+        let tiny = T::from_f64(1e-30);
+        let total = *inverse;
+        let d2 = if total > tiny { total } else { tiny };
+        *inverse = T::ONE / d2; // ≤ 1e30: finite in f32 too
+        if d2 < self.dmin {
+            self.dmin = d2;
+        }
+        // The largest typicality belongs to the smallest d²/η (the power is increasing);
+        // compared as d²·η_best < d²_best·η (both positive), one division at the end.
+        if d2 * self.best_eta < self.best_d2 * eta {
+            self.best_d2 = d2;
+            self.best_eta = eta;
+        }
+        *local = output;
+        self.inverse_sum = self.inverse_sum + *inverse;
+        self.inverse_blend = self.inverse_blend + *inverse * output;
+    }
+}
+
+/// η and the local model's output, offset + coefficients · `values`, of the `L` regimes of a
+/// block whose words are interleaved (regime `l`'s word `k` at byte `8·(L·k + l)`), reading
+/// from word `geometry` on: η, the offset, then one coefficient per value (NaN if the block is
+/// too short). Each regime's output is the same sum in the same order whatever `L`: four
+/// partial sums (value k into sum k mod 4), then (s₀ + s₁) + (s₂ + s₃).
+#[inline(always)]
+fn consequents<T: Real, const L: usize>(
+    block: &[u8],
+    geometry: usize,
+    values: &[T],
+) -> [(T, T); L] {
+    let start = 8 * L * geometry;
+    let Some(rest) = block.get(start..start + 8 * L * (2 + values.len())) else {
+        return [(T::NAN, T::NAN); L];
+    };
+    let (head, coefficients) = rest.split_at(16 * L);
+    let mut acc = [[T::ZERO; L]; 4];
+    let groups = coefficients.chunks_exact(32 * L);
+    let tail = groups.remainder();
+    let chunks = values.chunks_exact(4);
+    let remainder = chunks.remainder();
+    for (vs, cs) in chunks.zip(groups) {
+        for (k, (a, v)) in acc.iter_mut().zip(vs).enumerate() {
+            for (lane, a) in a.iter_mut().enumerate() {
+                let at = 8 * (L * k + lane);
+                *a = *a + decode::<T>(&cs[at..at + 8]) * *v;
+            }
+        }
+    }
+    for (v, cs) in remainder.iter().zip(tail.chunks_exact(8 * L)) {
+        for (lane, a) in acc[0].iter_mut().enumerate() {
+            *a = *a + decode::<T>(&cs[8 * lane..8 * lane + 8]) * *v;
+        }
+    }
+    core::array::from_fn(|lane| {
+        let eta = decode::<T>(&head[8 * lane..8 * lane + 8]);
+        let offset = decode::<T>(&head[8 * (L + lane)..8 * (L + lane) + 8]);
+        let [s0, s1, s2, s3] = acc.map(|a| a[lane]);
+        (eta, offset + ((s0 + s1) + (s2 + s3)))
+    })
+}
+
+/// ‖F (x − c)‖² of every regime for `P` antecedent variables, into `d2` (NaN for a block too
+/// short; an odd count's padding regime fills the slot after the last regime). Section F holds
+/// the regimes in blocks of two with their words interleaved: with `L` = 2 ([`LANES`] on
+/// x86-64 and AArch64) both regimes of a block are computed in lockstep, their words read side
+/// by side; with `L` = 1 one at a time. Every dimension up to `MAX_ANTECEDENT` gets its own
+/// copy (chosen once per sample), so the loops unroll and the byte-range checks fold into one
+/// per block: this is the hot spot of `step`.
 fn distances_with<T: Real, const P: usize, const L: usize>(
-    mut regimes: core::slice::ChunksExact<'_, u8>,
+    pairs: core::slice::ChunksExact<'_, u8>,
     x: &[T; MAX_ANTECEDENT],
     d2: &mut [T; MAX_REGIMES],
 ) {
-    // `L` regimes at a time, in lockstep: the same operations in the same order as one at a
-    // time (identical results), but where the target has vector registers they pair up.
-    for out in d2.chunks_exact_mut(L) {
-        let mut records: [&[u8]; L] = [&[]; L];
-        let mut n = 0;
-        for (slot, record) in records.iter_mut().zip(&mut regimes) {
-            *slot = record;
-            n += 1;
-        }
-        if n == L {
-            out.copy_from_slice(&distance::<T, P, L>(records, x));
-        } else {
-            for (o, record) in out.iter_mut().zip(&records[..n]) {
-                *o = distance::<T, P, 1>([record], x)[0];
+    let mut slots = d2.chunks_exact_mut(L);
+    for block in pairs {
+        // Regime `first + l` of the block is lane l of `distance` over the block from its
+        // word `first` on (stride two words).
+        for first in (0..2).step_by(L) {
+            if let Some(out) = slots.next() {
+                let lanes = block.get(8 * first..).unwrap_or(&[]);
+                out.copy_from_slice(&distance::<T, P, L, 2>(lanes, x));
             }
-            return;
         }
     }
 }
@@ -789,19 +821,21 @@ const LANES: usize = if cfg!(any(target_arch = "x86_64", target_arch = "aarch64"
     1
 };
 
-/// ‖F (x − c)‖² of `L` regimes' records in lockstep (see [`distances_with`]).
+/// ‖F (x − c)‖² of `L` regimes in lockstep whose words lie `S` words apart in `words` (lane
+/// `l`'s word `k` at byte `8·(S·k + l)`): c first, then F's rows packed (NaN if too short).
 #[inline(always)]
-fn distance<T: Real, const P: usize, const L: usize>(
-    records: [&[u8]; L],
+fn distance<T: Real, const P: usize, const L: usize, const S: usize>(
+    words: &[u8],
     x: &[T; MAX_ANTECEDENT],
 ) -> [T; L] {
-    let geometry = records.map(|r| r.get(..8 * (P + P * (P + 1) / 2)));
     let mut total = [T::NAN; L];
-    if geometry.iter().any(Option::is_none) {
+    let Some(geometry) = words.get(..8 * (S * (P + P * (P + 1) / 2 - 1) + L)) else {
         return total;
-    }
-    let geometry = geometry.map(Option::unwrap_or_default);
-    let word = |lane: usize, k: usize| geometry[lane].get(8 * k..8 * k + 8).map_or(T::NAN, decode);
+    };
+    let word = |lane: usize, k: usize| {
+        let at = 8 * (S * k + lane);
+        geometry.get(at..at + 8).map_or(T::NAN, decode)
+    };
     let mut diff = [[T::ZERO; L]; P];
     for a in 0..P {
         for lane in 0..L {
@@ -859,33 +893,44 @@ fn decode<T: Real>(bytes: &[u8]) -> T {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use std::vec::Vec;
 
-    /// Regime records of `p` variables: center then the factor's rows packed, then η, the offset
-    /// and `tail` more words (as a consequent would follow).
-    fn records(c: usize, p: usize, tail: usize) -> (std::vec::Vec<u8>, usize) {
-        let words = p + p * (p + 1) / 2 + 2 + tail;
-        let mut bytes = std::vec::Vec::new();
-        for i in 0..c {
-            for k in 0..words {
-                // Irregular values so that a mixed-up lane or word shows.
-                let v = ((i * 31 + k * 17) % 23) as f64 / 7.0 - 1.3;
-                bytes.extend_from_slice(&v.to_le_bytes());
+    /// `c` regimes of `p` variables with `tail` coefficients: each regime's words in order
+    /// (center, the factor's rows packed, η, offset, coefficients), and section F's bytes
+    /// (pairs interleaved, an odd count padded with a zero regime). Returns (words per regime,
+    /// section, words per regime count).
+    fn regimes(c: usize, p: usize, tail: usize) -> (Vec<Vec<f64>>, Vec<u8>, usize) {
+        let len = p + p * (p + 1) / 2 + 2 + tail;
+        // Irregular values so that a mixed-up lane or word shows.
+        let words: Vec<Vec<f64>> = (0..c)
+            .map(|i| {
+                (0..len)
+                    .map(|k| ((i * 31 + k * 17) % 23) as f64 / 7.0 - 1.3)
+                    .collect()
+            })
+            .collect();
+        let mut section = Vec::new();
+        let padding = vec![0.0; len];
+        for pair in words.chunks(2) {
+            let second = pair.get(1).unwrap_or(&padding);
+            for k in 0..len {
+                for regime in [&pair[0], second] {
+                    section.extend_from_slice(&regime[k].to_le_bytes());
+                }
             }
         }
-        (bytes, 8 * words)
+        (words, section, len)
     }
 
     /// ‖F (x − c)‖² written as the definition reads, in the kernel's order of operations.
-    fn by_definition(record: &[u8], p: usize, x: &[f64]) -> f64 {
-        let w =
-            |k: usize| f64::from_le_bytes(record[8 * k..8 * k + 8].try_into().expect("8 bytes"));
-        let diff: std::vec::Vec<f64> = (0..p).map(|a| x[a] - w(a)).collect();
+    fn by_definition(w: &[f64], p: usize, x: &[f64]) -> f64 {
+        let diff: Vec<f64> = (0..p).map(|a| x[a] - w[a]).collect();
         let mut total = 0.0;
         let mut at = p;
         for row in 0..p {
-            let mut y = w(at) * diff[0];
+            let mut y = w[at] * diff[0];
             for k in 1..=row {
-                y += w(at + k) * diff[k];
+                y += w[at + k] * diff[k];
             }
             total = if row == 0 { y * y } else { total + y * y };
             at += row + 1;
@@ -903,16 +948,17 @@ mod tests {
             [distances_with::<f64, 6, 1>, distances_with::<f64, 6, 2>];
         for (lanes, kernel) in kernels.into_iter().enumerate() {
             for c in 1..=MAX_REGIMES {
-                let (bytes, len) = records(c, 6, 3);
+                let (words, section, len) = regimes(c, 6, 3);
                 let mut d2 = [f64::NAN; MAX_REGIMES];
-                kernel(bytes.chunks_exact(len), &x, &mut d2);
-                for (i, record) in bytes.chunks_exact(len).enumerate() {
+                kernel(section.chunks_exact(16 * len), &x, &mut d2);
+                for (i, w) in words.iter().enumerate() {
                     // Exact: the lockstep lanes do the same operations in the same order.
-                    let expected = by_definition(record, 6, &x);
+                    let expected = by_definition(w, 6, &x);
                     assert_eq!(d2[i], expected, "{} lanes, c = {c}, regime {i}", lanes + 1);
                 }
+                // An odd count's padding regime fills one more slot, never more.
                 assert!(
-                    d2[c..].iter().all(|d| d.is_nan()),
+                    d2[c.next_multiple_of(2)..].iter().all(|d| d.is_nan()),
                     "c = {c}: wrote past the regimes"
                 );
             }
@@ -920,15 +966,57 @@ mod tests {
     }
 
     #[test]
-    fn a_short_record_gives_nan_distances() {
-        let (bytes, _) = records(2, 3, 0);
-        // Records of 16 bytes cannot hold 3 center values and 6 factor entries.
+    fn a_short_block_gives_nan_distances() {
+        let (_, section, _) = regimes(3, 3, 0);
+        // Blocks of 32 bytes cannot hold two regimes' 3 center values and 6 factor entries.
         let kernels: [DistanceKernel<f64>; 2] =
             [distances_with::<f64, 3, 1>, distances_with::<f64, 3, 2>];
         for kernel in kernels {
             let mut d2 = [0.0f64; MAX_REGIMES];
-            kernel(bytes.chunks_exact(16), &[0.0; MAX_ANTECEDENT], &mut d2);
-            assert!(d2[..2].iter().all(|d| d.is_nan()));
+            kernel(
+                section[..48].chunks_exact(32),
+                &[0.0; MAX_ANTECEDENT],
+                &mut d2,
+            );
+            assert!(d2[..2].iter().all(|d| d.is_nan()), "{d2:?}");
+        }
+    }
+
+    #[test]
+    fn consequents_match_the_definition_for_paired_and_single_regimes() {
+        let p = 2;
+        for nr in [0, 1, 3, 4, 5, 8, 12] {
+            let values: Vec<f64> = (0..nr).map(|k| 0.7 * k as f64 - 1.9).collect();
+            for c in 1..=5 {
+                let (words, section, len) = regimes(c, p, nr);
+                let mut d2 = [1.0f64; MAX_REGIMES];
+                let mut local = [f64::NAN; MAX_REGIMES];
+                let pass = regime_pass(
+                    section.chunks_exact(16 * len),
+                    p,
+                    c,
+                    &values,
+                    &mut d2,
+                    &mut local,
+                );
+                let mut blend = 0.0;
+                for (i, w) in words.iter().enumerate() {
+                    // offset + Σ θ_k v_k with value k in partial sum k mod 4, then
+                    // (s0 + s1) + (s2 + s3): the order `consequents` promises.
+                    let theta = &w[p + p * (p + 1) / 2 + 2..];
+                    let mut s = [0.0f64; 4];
+                    for (k, (t, v)) in theta.iter().zip(&values).enumerate() {
+                        s[k % 4] += t * v;
+                    }
+                    let offset = w[p + p * (p + 1) / 2 + 1];
+                    let expected = offset + ((s[0] + s[1]) + (s[2] + s[3]));
+                    assert_eq!(local[i], expected, "nr = {nr}, c = {c}, regime {i}");
+                    blend += expected; // d² = 1: every reciprocal is 1
+                }
+                assert_eq!(pass.inverse_sum, c as f64);
+                assert!((pass.inverse_blend - blend).abs() <= 1e-12 * blend.abs().max(1.0));
+                assert!(local[c..].iter().all(|l| l.is_nan()), "c = {c}: wrote past");
+            }
         }
     }
 }

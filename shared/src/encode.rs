@@ -201,14 +201,24 @@ impl ModelSpec {
             out.extend_from_slice(&a.to_le_bytes());
             out.extend_from_slice(&0u16.to_le_bytes());
         }
-        for reg in &self.regimes {
-            for &v in reg.center.iter().chain(&reg.factor) {
-                push_f64(&mut out, v);
+        // Section F: regimes in interleaved pairs (each word of regime 2j, then the same word
+        // of regime 2j + 1); an odd count padded with a zero regime.
+        let words = |reg: &RegimeSpec| -> Vec<f64> {
+            let mut w = reg.center.clone();
+            w.extend_from_slice(&reg.factor);
+            w.extend_from_slice(&[reg.eta, reg.offset]);
+            w.extend_from_slice(&reg.coefficients);
+            w
+        };
+        for pair in self.regimes.chunks(2) {
+            let mut pair: Vec<Vec<f64>> = pair.iter().map(words).collect();
+            if pair.len() == 1 {
+                pair.push(vec![0.0; pair[0].len()]);
             }
-            push_f64(&mut out, reg.eta);
-            push_f64(&mut out, reg.offset);
-            for &v in &reg.coefficients {
-                push_f64(&mut out, v);
+            for k in 0..pair[0].len() {
+                for regime in &pair {
+                    push_f64(&mut out, regime[k]);
+                }
             }
         }
         let total = out.len() + 4;

@@ -13,7 +13,7 @@ use crate::transform::Transform;
 /// First four bytes of every model file.
 pub const MAGIC: [u8; 4] = *b"RGMX";
 /// The format version this crate writes and reads.
-pub const FORMAT_VERSION: u16 = 1;
+pub const FORMAT_VERSION: u16 = 2;
 /// Bytes in the fixed header.
 pub const HEADER_LEN: usize = 48;
 /// Bytes in the CRC trailer.
@@ -93,7 +93,7 @@ fn read_u32(b: &[u8], at: usize) -> Result<u32, DecodeError> {
 
 #[inline]
 fn read_u64(b: &[u8], at: usize) -> Result<u64, DecodeError> {
-    match b.get(at..at + 8) {
+    match at.checked_add(8).and_then(|end| b.get(at..end)) {
         Some(s) => {
             let mut a = [0u8; 8];
             a.copy_from_slice(s);
@@ -255,7 +255,8 @@ impl<'a> ModelView<'a> {
         let regressors = inputs + 32 * n_inputs;
         let antecedent = regressors + 4 * n_regressors;
         let regimes = antecedent + 4 * n_antecedent;
-        let end = regimes + n_regimes * regime_len(n_antecedent, n_regressors);
+        // Section F: the regimes in pairs, an odd count padded with a zero regime.
+        let end = regimes + n_regimes.next_multiple_of(2) * regime_len(n_antecedent, n_regressors);
         if end + TRAILER_LEN != bytes.len() {
             return Err(DecodeError::BadLayout);
         }
@@ -351,14 +352,22 @@ impl<'a> ModelView<'a> {
                 return Err(DecodeError::InvalidField);
             }
         }
-        let record = regime_len(self.n_antecedent, self.n_regressors);
-        for i in 0..self.n_regimes {
-            let start = self.regimes + i * record;
-            for k in 0..record / 8 {
-                if !read_f64(self.bytes, start + 8 * k)?.is_finite() {
+        // Every regime's words finite; an odd count's padding regime all zero.
+        let words = regime_len(self.n_antecedent, self.n_regressors) / 8;
+        for i in 0..self.n_regimes.next_multiple_of(2) {
+            for k in 0..words {
+                let v = read_f64(self.bytes, self.regime_word(i, k))?;
+                let valid = if i < self.n_regimes {
+                    v.is_finite()
+                } else {
+                    v.to_bits() == 0
+                };
+                if !valid {
                     return Err(DecodeError::InvalidField);
                 }
             }
+        }
+        for i in 0..self.n_regimes {
             if !(self.eta(i) > 0.0) {
                 return Err(DecodeError::InvalidField);
             }
@@ -538,9 +547,16 @@ impl<'a> ModelView<'a> {
     pub fn max_output_lag(&self) -> u16 {
         self.max_output_lag
     }
+    /// Offset of word `k` of regime `i`'s parameters (center, factor, η, offset,
+    /// coefficients): regimes 2j and 2j + 1 share a block with their words interleaved (an odd
+    /// count is padded with a zero regime). Past the padding: `usize::MAX` (reads NaN).
     #[inline]
-    fn regime_start(&self, i: usize) -> usize {
-        self.regimes + i * regime_len(self.n_antecedent, self.n_regressors)
+    fn regime_word(&self, i: usize, k: usize) -> usize {
+        if i >= self.n_regimes.next_multiple_of(2) {
+            return usize::MAX;
+        }
+        let len = regime_len(self.n_antecedent, self.n_regressors);
+        self.regimes + (i / 2) * 2 * len + 8 * (2 * k + i % 2)
     }
     /// Section C: one 32-byte record per input (low, high, mean, std as little-endian f64), for
     /// the runtime's hot path. The fields were validated by [`parse`](Self::parse).
@@ -583,13 +599,14 @@ impl<'a> ModelView<'a> {
         self.section(self.regressors, 4 * self.n_regressors)
             .chunks_exact(4)
     }
-    /// Section F: one record per regime (center, factor, η, offset, coefficients as
-    /// little-endian f64, [`regime_len`] bytes), for the runtime's hot path.
+    /// Section F in blocks of two regimes with their words interleaved (center, factor, η,
+    /// offset, coefficients as little-endian f64; `2 · regime_len` bytes each; an odd count's
+    /// last block ends with a zero regime), for the runtime's hot path.
     #[inline]
-    pub fn regime_records(&self) -> core::slice::ChunksExact<'a, u8> {
+    pub fn regime_pairs(&self) -> core::slice::ChunksExact<'a, u8> {
         let len = regime_len(self.n_antecedent, self.n_regressors);
-        self.section(self.regimes, len * self.n_regimes)
-            .chunks_exact(len.max(1))
+        self.section(self.regimes, 2 * len * self.n_regimes.div_ceil(2))
+            .chunks_exact(2 * len.max(1))
     }
     #[inline]
     fn section(&self, start: usize, len: usize) -> &'a [u8] {
@@ -599,30 +616,30 @@ impl<'a> ModelView<'a> {
     /// Antecedent center of regime `i`, variable `a` (scaled units).
     #[inline]
     pub fn center(&self, i: usize, a: usize) -> f64 {
-        self.f64_at(self.regime_start(i) + 8 * a)
+        self.f64_at(self.regime_word(i, a))
     }
     /// Entry (row, col ≤ row) of regime `i`'s lower-triangular distance factor.
     #[inline]
     pub fn factor(&self, i: usize, row: usize, col: usize) -> f64 {
         let p = self.n_antecedent;
-        self.f64_at(self.regime_start(i) + 8 * (p + row * (row + 1) / 2 + col))
+        self.f64_at(self.regime_word(i, p + row * (row + 1) / 2 + col))
     }
     /// Typicality scale η of regime `i`.
     #[inline]
     pub fn eta(&self, i: usize) -> f64 {
         let p = self.n_antecedent;
-        self.f64_at(self.regime_start(i) + 8 * (p + p * (p + 1) / 2))
+        self.f64_at(self.regime_word(i, p + p * (p + 1) / 2))
     }
     /// Consequent offset of regime `i` (model domain).
     #[inline]
     pub fn offset(&self, i: usize) -> f64 {
         let p = self.n_antecedent;
-        self.f64_at(self.regime_start(i) + 8 * (p + p * (p + 1) / 2 + 1))
+        self.f64_at(self.regime_word(i, p + p * (p + 1) / 2 + 1))
     }
     /// Consequent coefficient of regressor `r` in regime `i`.
     #[inline]
     pub fn coefficient(&self, i: usize, r: usize) -> f64 {
         let p = self.n_antecedent;
-        self.f64_at(self.regime_start(i) + 8 * (p + p * (p + 1) / 2 + 2 + r))
+        self.f64_at(self.regime_word(i, p + p * (p + 1) / 2 + 2 + r))
     }
 }

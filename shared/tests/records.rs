@@ -1,5 +1,6 @@
 //! The runtime's record accessors (whole sections cut into records) read the same bytes as the
-//! per-field accessors, on a model with several inputs, a reordered antecedent and two regimes.
+//! per-field accessors, on a model with several inputs, a reordered antecedent and three regimes
+//! (one interleaved pair, then the odd regime paired with zero padding).
 
 use regimix_format::encode::{InputSpec, ModelSpec, RegimeSpec};
 use regimix_format::transform::Transform;
@@ -57,7 +58,7 @@ fn model() -> Vec<u8> {
             },
         ],
         antecedent: vec![2, 0],
-        regimes: (0..2)
+        regimes: (0..3)
             .map(|i| RegimeSpec {
                 center: (0..p).map(|a| 0.5 * (i + a) as f64 - 0.25).collect(),
                 factor: vec![1.0 + i as f64, 0.125, 2.0],
@@ -134,22 +135,62 @@ fn record_accessors_agree_with_field_accessors() {
     }
 
     let p = m.n_antecedent();
-    assert_eq!(m.regime_records().len(), 2);
-    for (i, rec) in m.regime_records().enumerate() {
-        assert_eq!(rec.len(), 8 * (2 + 3 + 2 + 4));
-        for a in 0..p {
-            assert_eq!(word(rec, a), m.center(i, a));
-        }
-        let mut at = p;
+    // Words of regime `i` in order, as the per-field accessors read them.
+    let words = |i: usize| -> Vec<f64> {
+        let mut w: Vec<f64> = (0..p).map(|a| m.center(i, a)).collect();
         for row in 0..p {
             for col in 0..=row {
-                assert_eq!(word(rec, at), m.factor(i, row, col));
-                at += 1;
+                w.push(m.factor(i, row, col));
             }
         }
-        assert_eq!((word(rec, at), word(rec, at + 1)), (m.eta(i), m.offset(i)));
-        for k in 0..4 {
-            assert_eq!(word(rec, at + 2 + k), m.coefficient(i, k));
+        w.extend([m.eta(i), m.offset(i)]);
+        w.extend((0..4).map(|k| m.coefficient(i, k)));
+        w
+    };
+    let len = 2 + 3 + 2 + 4;
+    let pairs = m.regime_pairs();
+    assert_eq!(pairs.len(), 2);
+    assert!(pairs.remainder().is_empty());
+    let padding = vec![0.0; len];
+    for (j, block) in pairs.enumerate() {
+        assert_eq!(block.len(), 16 * len);
+        let a = words(2 * j);
+        let b = if 2 * j + 1 < m.n_regimes() {
+            words(2 * j + 1)
+        } else {
+            padding.clone()
+        };
+        for k in 0..len {
+            assert_eq!((word(block, 2 * k), word(block, 2 * k + 1)), (a[k], b[k]));
         }
     }
+    // The accessors read the values the model was built with.
+    assert_eq!((m.center(2, 1), m.eta(2), m.offset(2)), (1.25, 3.5, -1.0));
+    assert!((m.coefficient(1, 3) - 0.75).abs() < 1e-12);
+}
+
+#[test]
+fn nonzero_padding_of_an_odd_regime_count_is_rejected() {
+    use regimix_format::crc32::{crc32, fnv1a64};
+    use regimix_format::DecodeError;
+    let mut bytes = model();
+    // The padding regime's last word (the last coefficient's second lane) ends just before
+    // the 4-byte CRC; set it to 1.0 and re-seal the file (model id, then CRC).
+    let n = bytes.len();
+    bytes[n - 12..n - 4].copy_from_slice(&1.0f64.to_le_bytes());
+    let id = fnv1a64(&bytes[48..n - 4]);
+    bytes[32..40].copy_from_slice(&id.to_le_bytes());
+    let crc = crc32(&bytes[..n - 4]);
+    bytes[n - 4..].copy_from_slice(&crc.to_le_bytes());
+    assert_eq!(
+        ModelView::parse(&bytes).err(),
+        Some(DecodeError::InvalidField)
+    );
+    // The same bytes with the padding restored decode.
+    bytes[n - 12..n - 4].copy_from_slice(&0.0f64.to_le_bytes());
+    let id = fnv1a64(&bytes[48..n - 4]);
+    bytes[32..40].copy_from_slice(&id.to_le_bytes());
+    let crc = crc32(&bytes[..n - 4]);
+    bytes[n - 4..].copy_from_slice(&crc.to_le_bytes());
+    assert!(ModelView::parse(&bytes).is_ok());
 }
