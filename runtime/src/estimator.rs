@@ -486,8 +486,9 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         let values = values.get_mut(..nr).unwrap_or(&mut []);
 
         let mut scaled = [T::ZERO; MAX_ANTECEDENT];
-        // Two at a time, as the distance kernels read them (see `values` below). An odd `p`
-        // fills one slot past the last variable, which the kernel does not read.
+        // Two at a time: the distance kernels read them two at a time, and a 16-byte read of two
+        // 8-byte writes waits for them to reach the cache instead of taking them from the
+        // store buffer. An odd `p` fills one slot past the last variable, which is not read.
         // MAX_INPUTS is a power of two: the mask only keeps the index provably in bounds.
         let standard = |j: u8| standardized[usize::from(j) & (MAX_INPUTS - 1)];
         let (pairs, _) = scaled.as_chunks_mut::<2>();
@@ -512,15 +513,8 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
             let i = if i >= len { i - len } else { i };
             history.get(at + 1 + i).copied().unwrap_or(T::NAN)
         };
-        // Stored two at a time: the consequents read them two at a time, and a wide read of
-        // two narrow writes waits for them to reach the cache.
-        let (pairs, odd) = values.as_chunks_mut::<2>();
-        let (tap_pairs, _) = taps.as_chunks::<2>();
-        for (pair, &[t0, t1]) in pairs.iter_mut().zip(tap_pairs) {
-            *pair = [fetch(t0), fetch(t1)];
-        }
-        if let ([v], Some(&t)) = (odd, taps.get(2 * pairs.len())) {
-            *v = fetch(t);
+        for (v, &tap) in values.iter_mut().zip(taps) {
+            *v = fetch(tap);
         }
         let values = &*values;
 
@@ -806,7 +800,7 @@ fn distances_with<T: Real, const P: usize, const L: usize>(
         for first in (0..2).step_by(L) {
             if let Some(out) = slots.next() {
                 let lanes = block.get(8 * first..).unwrap_or(&[]);
-                out.copy_from_slice(&distance::<T, P, L, 2>(lanes, x));
+                out.copy_from_slice(&distance::<T, P, L>(lanes, x));
             }
         }
     }
@@ -821,19 +815,20 @@ const LANES: usize = if cfg!(any(target_arch = "x86_64", target_arch = "aarch64"
     1
 };
 
-/// ‖F (x − c)‖² of `L` regimes in lockstep whose words lie `S` words apart in `words` (lane
-/// `l`'s word `k` at byte `8·(S·k + l)`): c first, then F's rows packed (NaN if too short).
+/// ‖F (x − c)‖² of `L` regimes in lockstep whose words lie two words apart in `words` (lane
+/// `l`'s word `k` at byte `8·(2k + l)`, as in a block of section F): c first, then F's rows
+/// packed (NaN if too short).
 #[inline(always)]
-fn distance<T: Real, const P: usize, const L: usize, const S: usize>(
+fn distance<T: Real, const P: usize, const L: usize>(
     words: &[u8],
     x: &[T; MAX_ANTECEDENT],
 ) -> [T; L] {
     let mut total = [T::NAN; L];
-    let Some(geometry) = words.get(..8 * (S * (P + P * (P + 1) / 2 - 1) + L)) else {
+    let Some(geometry) = words.get(..8 * (2 * (P + P * (P + 1) / 2 - 1) + L)) else {
         return total;
     };
     let word = |lane: usize, k: usize| {
-        let at = 8 * (S * k + lane);
+        let at = 8 * (2 * k + lane);
         geometry.get(at..at + 8).map_or(T::NAN, decode)
     };
     let mut diff = [[T::ZERO; L]; P];
