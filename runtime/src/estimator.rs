@@ -2,7 +2,7 @@
 
 use regimix_format::limits::{MAX_ANTECEDENT, MAX_INPUTS, MAX_REGIMES, MAX_REGRESSORS};
 use regimix_format::transform::Transform;
-use regimix_format::{ModelView, Source};
+use regimix_format::{ModelView, Regressor, Source};
 
 use crate::real::Real;
 use crate::status::{LabOutcome, Status};
@@ -155,7 +155,7 @@ struct Hot<'m, T> {
     inputs: &'m [u8],
     /// Input of each antecedent variable (the view checked each against the input count).
     antecedent: [u8; MAX_ANTECEDENT],
-    /// Section F in blocks of two regimes (an odd last regime is the remainder).
+    /// Section F in blocks of two regimes (an odd count's last block ends with padding).
     regimes: core::slice::ChunksExact<'m, u8>,
     /// Antecedent variables, regressors and regimes, each capped at its limit.
     p: usize,
@@ -266,18 +266,11 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         {
             self.set(ring, T::from_index(0)); // head index
         }
-        for (r, record) in self.model.regressor_records().enumerate() {
-            let &[source, input, lag0, lag1] = record else {
-                continue;
-            };
-            let lag = usize::from(u16::from_le_bytes([lag0, lag1]));
-            let tap = if source == 0 {
-                tap(&layout, usize::from(input), lag)
-            } else {
-                // The newest entry is y(k−1): lag L is L − 1 entries back.
-                tap(&layout, OUTPUT, lag.saturating_sub(1))
-            };
-            self.set(layout.taps + r, T::from_index(tap));
+        for r in 0..self.model.n_regressors() {
+            if let Some(reg) = self.model.regressor(r) {
+                let (ring, back) = ring_and_back(reg);
+                self.set(layout.taps + r, T::from_index(tap(&layout, ring, back)));
+            }
         }
     }
 
@@ -566,11 +559,7 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
     fn regressor_value(&self, r: usize) -> T {
         match self.model.regressor(r) {
             Some(reg) => {
-                let (ring, back) = match reg.source {
-                    Source::Input(j) => ((j as usize).min(MAX_INPUTS - 1), reg.lag as usize),
-                    // The newest entry is y(k−1): lag L is L − 1 entries back.
-                    Source::Output => (OUTPUT, (reg.lag as usize).wrapping_sub(1)),
-                };
+                let (ring, back) = ring_and_back(reg);
                 let (at, len) = self.layout.ring(ring);
                 self.lagged(at, len, back)
             }
@@ -630,6 +619,15 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
             .clamp(-target.bias_limit, target.bias_limit);
         self.set(BIAS, T::from_f64(updated));
         LabOutcome::Applied(updated)
+    }
+}
+
+/// The ring a regressor reads and how many entries behind its newest: an output's ring holds
+/// y(k−1) as its newest entry, so output lag L is L − 1 entries back.
+fn ring_and_back(reg: Regressor) -> (usize, usize) {
+    match reg.source {
+        Source::Input(j) => (usize::from(j).min(MAX_INPUTS - 1), usize::from(reg.lag)),
+        Source::Output => (OUTPUT, usize::from(reg.lag).saturating_sub(1)),
     }
 }
 
