@@ -83,6 +83,15 @@ fn demo_build_writes_everything_and_beats_the_linear_model() {
     let text = regimix(dir.path(), &["inspect", "demo-out/model.rgmx"]);
     let text = String::from_utf8_lossy(&text.stdout).to_string();
     assert!(text.contains("(fuzziness 2)"), "{text}");
+    // The format version is the header's u16 at byte 4 (docs/model-format.md), not a constant
+    // of the report: it once printed "format 1" after the format moved to version 2.
+    let bytes = std::fs::read(o.join("model.rgmx")).expect("model");
+    let version = u16::from_le_bytes([bytes[4], bytes[5]]);
+    assert_eq!(json["format_version"].as_u64(), Some(u64::from(version)));
+    assert!(
+        text.contains(&format!("(format {version}, builder ")),
+        "{text}"
+    );
     assert!(
         text.contains(&format!(
             "runtime state: {words} words ({} bytes in f64",

@@ -437,6 +437,12 @@ impl<'a> ModelView<'a> {
     pub fn uses_output_lags(&self) -> bool {
         self.flags & FLAG_OUTPUT_LAGS != 0
     }
+    /// Format version the file declares (bytes 4–5 of the header; `parse` accepts only
+    /// [`FORMAT_VERSION`]).
+    #[inline]
+    pub fn format_version(&self) -> u16 {
+        read_u16(self.bytes, 4).unwrap_or(0)
+    }
     /// Content hash of the body.
     #[inline]
     pub fn model_id(&self) -> u64 {

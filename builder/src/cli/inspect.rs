@@ -21,6 +21,7 @@ struct InputInfo {
 #[derive(Serialize)]
 struct Summary {
     model_id: String,
+    format_version: u16,
     builder_version: String,
     target: String,
     target_unit: String,
@@ -47,6 +48,7 @@ fn summary(m: &ModelView<'_>) -> Summary {
     let t = m.target();
     Summary {
         model_id: format!("{:016x}", m.model_id()),
+        format_version: m.format_version(),
         builder_version: m.builder_version().into(),
         target: m.target_tag().into(),
         target_unit: m.target_unit().into(),
@@ -132,8 +134,8 @@ pub fn run(path: &Path, json: bool) -> anyhow::Result<()> {
         }};
     }
     println!(
-        "Model {} (format 1, builder {})",
-        s.model_id, s.builder_version
+        "Model {} (format {}, builder {})",
+        s.model_id, s.format_version, s.builder_version
     );
     println!(
         "  estimates {} [{}], transform {}, every {} s, {}",
