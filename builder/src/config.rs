@@ -319,12 +319,50 @@ pub struct RawLab {
     /// Timestamp column of the lab files (default: the data files' timestamp name).
     #[serde(default)]
     pub timestamp: Option<String>,
+    /// Field delimiter of the lab files (default: `data.delimiter`); a lab system's export often
+    /// differs from the historian's.
+    #[serde(default)]
+    pub delimiter: Option<char>,
+    /// UTC offset of the lab files' naive timestamps (default: `data.naive-offset`); lab systems
+    /// often write local time where historians write UTC.
+    #[serde(default)]
+    pub naive_offset: Option<String>,
     /// `sample` or `result`.
     #[serde(default)]
     pub stamped_at: LabStamp,
     /// Result time minus sample time; required when `stamped-at: result`.
     #[serde(default)]
     pub delay: Option<Span>,
+}
+
+/// A delimiter must be one ASCII character other than the quote.
+fn check_delimiter(
+    d: char,
+    key: &str,
+    invalid: &dyn Fn(&str, String) -> ConfigError,
+) -> Result<u8, ConfigError> {
+    if d.is_ascii() && d != '"' {
+        Ok(d as u8)
+    } else {
+        Err(invalid(
+            key,
+            format!("`{d}` must be one ASCII character other than `\"`"),
+        ))
+    }
+}
+
+/// A UTC offset like `+01:00`, `-05:30` or `UTC`, in minutes east of UTC.
+fn check_offset(
+    text: &str,
+    key: &str,
+    invalid: &dyn Fn(&str, String) -> ConfigError,
+) -> Result<i32, ConfigError> {
+    parse_offset(text).ok_or_else(|| {
+        invalid(
+            key,
+            format!("`{text}` is not an offset like `+01:00`, `-05:30` or `UTC`"),
+        )
+    })
 }
 
 fn default_timestamp() -> String {
@@ -359,6 +397,10 @@ pub struct LabSpec {
     pub files: Vec<PathBuf>,
     /// Timestamp column of the lab files.
     pub timestamp: String,
+    /// Field delimiter byte of the lab files.
+    pub delimiter: u8,
+    /// Offset applied to the lab files' naive timestamps, minutes east of UTC.
+    pub naive_offset_minutes: i32,
     /// Subtracted from each stamp to get the sample time (zero when stamped at sample time).
     pub delay: Span,
     /// How the files stamp results.
@@ -490,24 +532,9 @@ impl RawConfig {
         if self.data.files.is_empty() {
             return Err(invalid("data.files", "lists no files".into()));
         }
-        if !self.data.delimiter.is_ascii() || self.data.delimiter == '"' {
-            return Err(invalid(
-                "data.delimiter",
-                format!(
-                    "`{}` must be one ASCII character other than `\"`",
-                    self.data.delimiter
-                ),
-            ));
-        }
-        let naive_offset_minutes = parse_offset(&self.data.naive_offset).ok_or_else(|| {
-            invalid(
-                "data.naive-offset",
-                format!(
-                    "`{}` is not an offset like `+01:00`, `-05:30` or `UTC`",
-                    self.data.naive_offset
-                ),
-            )
-        })?;
+        let delimiter = check_delimiter(self.data.delimiter, "data.delimiter", &invalid)?;
+        let naive_offset_minutes =
+            check_offset(&self.data.naive_offset, "data.naive-offset", &invalid)?;
         if self.sample_time.micros() <= 0 {
             return Err(invalid("sample-time", "must be more than zero".into()));
         }
@@ -649,13 +676,31 @@ impl RawConfig {
                         }
                         (LabStamp::Sample, None) => Span::from_secs(0),
                     };
-                let files = lab.files.iter().map(|f| base.join(f)).collect();
+                let files: Vec<PathBuf> = lab.files.iter().map(|f| base.join(f)).collect();
+                if files.is_empty() && (lab.delimiter.is_some() || lab.naive_offset.is_some()) {
+                    return Err(invalid(
+                        "target.lab",
+                        "`delimiter` and `naive-offset` apply to lab `files`; without them the \
+                         target column of the data files is read with the `data` settings"
+                            .into(),
+                    ));
+                }
                 let timestamp = lab.timestamp.unwrap_or_else(|| self.data.timestamp.clone());
+                let lab_delimiter = match lab.delimiter {
+                    Some(d) => check_delimiter(d, "target.lab.delimiter", &invalid)?,
+                    None => delimiter,
+                };
+                let lab_offset = match &lab.naive_offset {
+                    Some(o) => check_offset(o, "target.lab.naive-offset", &invalid)?,
+                    None => naive_offset_minutes,
+                };
                 (
                     Span::from_secs(0),
                     Some(LabSpec {
                         files,
                         timestamp,
+                        delimiter: lab_delimiter,
+                        naive_offset_minutes: lab_offset,
                         delay,
                         stamped_at: lab.stamped_at,
                     }),
@@ -686,7 +731,7 @@ impl RawConfig {
             modelling,
             files: self.data.files.iter().map(|f| base.join(f)).collect(),
             timestamp: self.data.timestamp,
-            delimiter: self.data.delimiter as u8,
+            delimiter,
             naive_offset_minutes,
             sample_time: ts,
             hold_limit,
@@ -1071,5 +1116,45 @@ inputs:
         assert_eq!(lab.delay, Span::from_secs(7200));
         assert_eq!(lab.timestamp, "time");
         assert_eq!(lab.files, vec![PathBuf::from("/plant/lab.csv")]);
+    }
+
+    #[test]
+    fn lab_files_inherit_or_override_the_data_delimiter_and_offset() {
+        let lab_target = |extra: &str| {
+            MINIMAL
+                .replace(
+                    "  timestamp: time",
+                    "  timestamp: time\n  delimiter: \";\"\n  naive-offset: UTC",
+                )
+                .replace(
+                    "  source: analyzer\n  dead-time: 10min",
+                    &format!("  source: lab\n  lab:\n    files: [lab.csv]{extra}"),
+                )
+        };
+        let inherited = load(&lab_target("")).expect("valid");
+        let lab = inherited.target.lab.expect("lab");
+        assert_eq!((inherited.delimiter, lab.delimiter), (b';', b';'));
+        assert_eq!(lab.naive_offset_minutes, 0);
+        let own = load(&lab_target(
+            "\n    delimiter: \",\"\n    naive-offset: \"+01:00\"",
+        ))
+        .expect("valid");
+        let lab = own.target.lab.expect("lab");
+        assert_eq!((own.delimiter, lab.delimiter), (b';', b','));
+        assert_eq!(
+            (own.naive_offset_minutes, lab.naive_offset_minutes),
+            (0, 60)
+        );
+        for (extra, key) in [
+            ("\n    delimiter: \"é\"", "target.lab.delimiter"),
+            ("\n    naive-offset: CET", "target.lab.naive-offset"),
+        ] {
+            let err = load(&lab_target(extra)).expect_err(key).to_string();
+            assert!(err.contains(&format!("`{key}`")), "{key}: {err}");
+        }
+        // Without lab files the target column comes from the data files, read as data.
+        let no_files = lab_target("\n    delimiter: \",\"").replace("    files: [lab.csv]\n", "");
+        let err = load(&no_files).expect_err("no files").to_string();
+        assert!(err.contains("`target.lab`"), "{err}");
     }
 }

@@ -249,7 +249,7 @@ pub fn prepare(config: &Config) -> Result<Prepared, DataError> {
                 std::mem::replace(&mut table.columns[p], RawColumn::empty(&target_spec.tag));
             target::LabSamples::from_column(&table.times, column)
         } else {
-            target::read_lab_files(lab_spec, &target_spec.tag, config)?
+            target::read_lab_files(lab_spec, &target_spec.tag)?
         };
         let out_of_range = screen::apply_range(&mut samples.column, target_spec.range);
         let (series, placed) = target::place_lab(&samples, lab_spec.delay.micros(), &grid);

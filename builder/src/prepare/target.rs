@@ -7,7 +7,7 @@ use regimix_format::transform::Transform;
 use super::historian::{self, Observation, RawColumn, ReadSpec};
 use super::resample::{Grid, GridSeries};
 use super::CellStatus;
-use crate::config::{Config, LabSpec};
+use crate::config::LabSpec;
 use crate::error::DataError;
 use crate::timestamp::Micros;
 
@@ -54,13 +54,13 @@ impl LabSamples {
 }
 
 /// Reads the lab files named in the config.
-pub fn read_lab_files(lab: &LabSpec, tag: &str, config: &Config) -> Result<LabSamples, DataError> {
+pub fn read_lab_files(lab: &LabSpec, tag: &str) -> Result<LabSamples, DataError> {
     let columns = [(tag.to_string(), "target")];
     let spec = ReadSpec {
-        delimiter: config.delimiter,
+        delimiter: lab.delimiter,
         timestamp: &lab.timestamp,
         columns: &columns,
-        naive_offset_minutes: config.naive_offset_minutes,
+        naive_offset_minutes: lab.naive_offset_minutes,
     };
     let table = historian::read_files(&lab.files, &spec)?;
     let rows_per_file = table.rows_per_file.clone();
@@ -204,6 +204,25 @@ mod tests {
                 same_row: 1
             }
         );
+    }
+
+    #[test]
+    fn lab_files_use_their_own_delimiter_and_offset() {
+        let dir = tempfile::tempdir().expect("tempdir");
+        let path = dir.path().join("lab.csv");
+        std::fs::write(&path, "drawn;XA-1\n2026-03-02 09:15:00;0.42\n").expect("write");
+        let lab = LabSpec {
+            files: vec![path],
+            timestamp: "drawn".into(),
+            delimiter: b';',
+            naive_offset_minutes: 60,
+            delay: crate::duration::Span::from_secs(0),
+            stamped_at: crate::config::LabStamp::Sample,
+        };
+        let samples = read_lab_files(&lab, "XA-1").expect("read");
+        // 09:15 at UTC+01:00 is 08:15Z: 1772439300 s since the epoch (Python's datetime).
+        assert_eq!(samples.times, vec![1_772_439_300 * 1_000_000]);
+        assert_eq!(samples.column.values, vec![0.42]);
     }
 
     #[test]
