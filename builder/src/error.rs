@@ -94,7 +94,9 @@ pub enum DataError {
         source: TimestampError,
     },
     /// Time going backwards inside one file.
-    #[error("{path}:{line}: column `{column}`: time goes backwards ({time} after {previous}); sort the export by time")]
+    #[error(
+        "{path}:{line}: column `{column}`: time goes backwards ({time} after {previous}); {hint}"
+    )]
     NonMonotonic {
         /// File.
         path: PathBuf,
@@ -106,6 +108,8 @@ pub enum DataError {
         time: Rfc3339,
         /// The previous row's time.
         previous: Rfc3339,
+        /// What to do: [`backwards_hint`].
+        hint: &'static str,
     },
     /// After resampling, nothing is left to work with.
     #[error("the data span less than two sample-times ({detail}); export a longer period")]
@@ -113,4 +117,16 @@ pub enum DataError {
         /// Detail.
         detail: String,
     },
+}
+
+/// Advice for a file whose time steps back by `back_micros`: a step of at most an hour is what
+/// local time does at the end of daylight saving (common practice: historians export local time
+/// unless told otherwise), anything else an unsorted export.
+pub fn backwards_hint(back_micros: i64) -> &'static str {
+    if back_micros > 0 && back_micros <= 3_600_000_000 {
+        "a step back of up to an hour is what local time does when daylight saving ends: export \
+         in UTC or with UTC offsets (`naive-offset` is one fixed offset), or sort the export by time"
+    } else {
+        "sort the export by time"
+    }
 }

@@ -261,6 +261,7 @@ pub fn read_file(path: &Path, spec: &ReadSpec<'_>) -> Result<RawTable, DataError
                     column: spec.timestamp.to_string(),
                     time: Rfc3339(time),
                     previous: Rfc3339(prev),
+                    hint: crate::error::backwards_hint(prev - time),
                 });
             }
         }
@@ -451,8 +452,14 @@ mod tests {
                 ":3: column `time`: `yesterday` is not a timestamp",
             ),
             (
-                b"time,TI-1\n2026-03-01 00:01:00,1\n2026-03-01 00:00:00,2\n",
-                ":3: column `time`: time goes backwards",
+                b"time,TI-1\n2026-03-01 03:00:00,1\n2026-03-01 00:00:00,2\n",
+                ":3: column `time`: time goes backwards (2026-03-01T00:00:00Z after \
+                 2026-03-01T03:00:00Z); sort the export by time",
+            ),
+            (
+                // Local time at the end of daylight saving: 02:59 is followed by 02:00 again.
+                b"time,TI-1\n2026-10-25 02:59:00,1\n2026-10-25 02:00:00,2\n",
+                "when daylight saving ends: export in UTC",
             ),
             (
                 b"time,TI-1\n2026-03-01 00:00:00,\xff\xfe\n",
