@@ -238,6 +238,9 @@ pub struct RawData {
     /// UTC offset of timestamps written without one, e.g. `+01:00`.
     #[serde(default = "default_offset")]
     pub naive_offset: String,
+    /// Decimal mark of numbers, `.` or `,`.
+    #[serde(default = "default_decimal_mark")]
+    pub decimal_mark: char,
 }
 
 /// The `screening` section.
@@ -327,6 +330,9 @@ pub struct RawLab {
     /// often write local time where historians write UTC.
     #[serde(default)]
     pub naive_offset: Option<String>,
+    /// Decimal mark of the lab files' numbers (default: `data.decimal-mark`).
+    #[serde(default)]
+    pub decimal_mark: Option<char>,
     /// `sample` or `result`.
     #[serde(default)]
     pub stamped_at: LabStamp,
@@ -351,6 +357,19 @@ fn check_delimiter(
     }
 }
 
+/// A decimal mark, `.` or `,`: whether numbers use a decimal comma.
+fn check_decimal_mark(
+    mark: char,
+    key: &str,
+    invalid: &dyn Fn(&str, String) -> ConfigError,
+) -> Result<bool, ConfigError> {
+    match mark {
+        '.' => Ok(false),
+        ',' => Ok(true),
+        other => Err(invalid(key, format!("`{other}` must be `.` or `,`"))),
+    }
+}
+
 /// A UTC offset like `+01:00`, `-05:30` or `UTC`, in minutes east of UTC.
 fn check_offset(
     text: &str,
@@ -370,6 +389,9 @@ fn default_timestamp() -> String {
 }
 fn default_delimiter() -> char {
     ','
+}
+fn default_decimal_mark() -> char {
+    '.'
 }
 fn default_offset() -> String {
     "+00:00".to_string()
@@ -401,6 +423,8 @@ pub struct LabSpec {
     pub delimiter: u8,
     /// Offset applied to the lab files' naive timestamps, minutes east of UTC.
     pub naive_offset_minutes: i32,
+    /// The lab files write numbers with a decimal comma.
+    pub decimal_comma: bool,
     /// Subtracted from each stamp to get the sample time (zero when stamped at sample time).
     pub delay: Span,
     /// How the files stamp results.
@@ -489,6 +513,8 @@ pub struct Config {
     pub delimiter: u8,
     /// Offset applied to naive timestamps, minutes east of UTC.
     pub naive_offset_minutes: i32,
+    /// Numbers are written with a decimal comma.
+    pub decimal_comma: bool,
     /// Grid spacing.
     pub sample_time: Span,
     /// Maximum age of a held value.
@@ -535,6 +561,8 @@ impl RawConfig {
         let delimiter = check_delimiter(self.data.delimiter, "data.delimiter", &invalid)?;
         let naive_offset_minutes =
             check_offset(&self.data.naive_offset, "data.naive-offset", &invalid)?;
+        let decimal_comma =
+            check_decimal_mark(self.data.decimal_mark, "data.decimal-mark", &invalid)?;
         if self.sample_time.micros() <= 0 {
             return Err(invalid("sample-time", "must be more than zero".into()));
         }
@@ -677,11 +705,16 @@ impl RawConfig {
                         (LabStamp::Sample, None) => Span::from_secs(0),
                     };
                 let files: Vec<PathBuf> = lab.files.iter().map(|f| base.join(f)).collect();
-                if files.is_empty() && (lab.delimiter.is_some() || lab.naive_offset.is_some()) {
+                if files.is_empty()
+                    && (lab.delimiter.is_some()
+                        || lab.naive_offset.is_some()
+                        || lab.decimal_mark.is_some())
+                {
                     return Err(invalid(
                         "target.lab",
-                        "`delimiter` and `naive-offset` apply to lab `files`; without them the \
-                         target column of the data files is read with the `data` settings"
+                        "`delimiter`, `naive-offset` and `decimal-mark` apply to lab `files`; \
+                         without them the target column of the data files is read with the \
+                         `data` settings"
                             .into(),
                     ));
                 }
@@ -694,6 +727,10 @@ impl RawConfig {
                     Some(o) => check_offset(o, "target.lab.naive-offset", &invalid)?,
                     None => naive_offset_minutes,
                 };
+                let lab_comma = match lab.decimal_mark {
+                    Some(m) => check_decimal_mark(m, "target.lab.decimal-mark", &invalid)?,
+                    None => decimal_comma,
+                };
                 (
                     Span::from_secs(0),
                     Some(LabSpec {
@@ -701,6 +738,7 @@ impl RawConfig {
                         timestamp,
                         delimiter: lab_delimiter,
                         naive_offset_minutes: lab_offset,
+                        decimal_comma: lab_comma,
                         delay,
                         stamped_at: lab.stamped_at,
                     }),
@@ -733,6 +771,7 @@ impl RawConfig {
             timestamp: self.data.timestamp,
             delimiter,
             naive_offset_minutes,
+            decimal_comma,
             sample_time: ts,
             hold_limit,
             screening: Screening {
@@ -1039,6 +1078,7 @@ inputs:
         let c = load(MINIMAL).expect("valid");
         assert_eq!(c.files, vec![PathBuf::from("/plant/plant.csv")]);
         assert_eq!(c.delimiter, b',');
+        assert!(!c.decimal_comma);
         assert_eq!(c.sample_time, Span::from_secs(60));
         assert_eq!(c.hold_limit, Span::from_secs(180));
         assert_eq!(c.screening.spike_half_window, 15);
@@ -1119,12 +1159,12 @@ inputs:
     }
 
     #[test]
-    fn lab_files_inherit_or_override_the_data_delimiter_and_offset() {
+    fn lab_files_inherit_or_override_the_data_delimiter_offset_and_decimal_mark() {
         let lab_target = |extra: &str| {
             MINIMAL
                 .replace(
                     "  timestamp: time",
-                    "  timestamp: time\n  delimiter: \";\"\n  naive-offset: UTC",
+                    "  timestamp: time\n  delimiter: \";\"\n  naive-offset: UTC\n  decimal-mark: \",\"",
                 )
                 .replace(
                     "  source: analyzer\n  dead-time: 10min",
@@ -1135,8 +1175,9 @@ inputs:
         let lab = inherited.target.lab.expect("lab");
         assert_eq!((inherited.delimiter, lab.delimiter), (b';', b';'));
         assert_eq!(lab.naive_offset_minutes, 0);
+        assert!(inherited.decimal_comma && lab.decimal_comma);
         let own = load(&lab_target(
-            "\n    delimiter: \",\"\n    naive-offset: \"+01:00\"",
+            "\n    delimiter: \",\"\n    naive-offset: \"+01:00\"\n    decimal-mark: \".\"",
         ))
         .expect("valid");
         let lab = own.target.lab.expect("lab");
@@ -1145,9 +1186,11 @@ inputs:
             (own.naive_offset_minutes, lab.naive_offset_minutes),
             (0, 60)
         );
+        assert!(own.decimal_comma && !lab.decimal_comma);
         for (extra, key) in [
             ("\n    delimiter: \"é\"", "target.lab.delimiter"),
             ("\n    naive-offset: CET", "target.lab.naive-offset"),
+            ("\n    decimal-mark: \";\"", "target.lab.decimal-mark"),
         ] {
             let err = load(&lab_target(extra)).expect_err(key).to_string();
             assert!(err.contains(&format!("`{key}`")), "{key}: {err}");

@@ -89,6 +89,7 @@ pub fn read_inputs(
     model: &ModelView<'_>,
     timestamp: Option<&str>,
     delimiter: u8,
+    decimal_comma: bool,
 ) -> Result<(Vec<Micros>, Vec<Vec<f64>>), DataError> {
     let timestamp = match timestamp {
         Some(t) => t.to_string(),
@@ -102,6 +103,7 @@ pub fn read_inputs(
         timestamp: &timestamp,
         columns: &columns,
         naive_offset_minutes: 0,
+        decimal_comma,
     };
     let table = read_file(path, &spec)?;
     let rows = (0..table.times.len())

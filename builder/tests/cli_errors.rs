@@ -94,3 +94,42 @@ fn usage_errors_exit_non_zero() {
     assert_eq!(out.status.code(), Some(2));
     assert!(!String::from_utf8_lossy(&out.stderr).contains("panicked"));
 }
+
+/// `replay` reads a European export (`;`, decimal comma) to the same estimates as the plain one,
+/// and refuses a decimal mark other than `.` or `,`.
+#[test]
+fn replay_reads_decimal_commas_alike() {
+    let dir = tempfile::tempdir().expect("tempdir");
+    let model = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("../docs/examples/tiny-model.rgmx")
+        .to_string_lossy()
+        .to_string();
+    let plain = "time,TI-1\n2026-03-02 00:00:00,101.5\n2026-03-02 00:01:00,Bad\n2026-03-02 00:02:00,97.25\n";
+    write(dir.path(), "plain.csv", plain);
+    write(
+        dir.path(),
+        "comma.csv",
+        &plain.replace(',', ";").replace('.', ","),
+    );
+    let a = regimix(dir.path(), &["replay", &model, "plain.csv"]);
+    let b = regimix(
+        dir.path(),
+        &[
+            "replay",
+            &model,
+            "comma.csv",
+            "--delimiter",
+            ";",
+            "--decimal-mark",
+            ",",
+        ],
+    );
+    assert!(a.status.success(), "{}", String::from_utf8_lossy(&a.stderr));
+    assert_eq!(a.stdout, b.stdout);
+    assert_eq!(String::from_utf8_lossy(&a.stdout).lines().count(), 4);
+    let out = regimix(
+        dir.path(),
+        &["replay", &model, "plain.csv", "--decimal-mark", ";"],
+    );
+    assert_clean_failure(&out, "--decimal-mark must be `.` or `,`");
+}

@@ -148,3 +148,51 @@ fn check_json_carries_the_same_findings() {
         "{text}"
     );
 }
+
+/// The same export as a European locale writes it: `;` between fields, a decimal comma. Read
+/// with the default decimal point, every number is text: `check` lists only the most frequent
+/// texts and names the setting; with `decimal-mark: ","` the findings are the originals.
+#[test]
+fn a_decimal_comma_export_is_explained_then_read_alike() {
+    let dir = tempfile::tempdir().expect("tempdir");
+    let european = messy_csv().replace(',', ";").replace('.', ",");
+    write(dir.path(), "messy.csv", &european);
+    let semicolons = CONFIG.replace("  timestamp: time", "  timestamp: time\n  delimiter: \";\"");
+    write(dir.path(), "c.yaml", &semicolons);
+    let text = regimix(dir.path(), &["check", "c.yaml"]);
+    let text = String::from_utf8_lossy(&text.stdout);
+    assert!(
+        text.contains("are numbers with a decimal comma: set `data.decimal-mark: \",\"`"),
+        "{text}"
+    );
+    let line = text
+        .lines()
+        .find(|l| l.starts_with("  TI-A ") && l.contains('×'))
+        .expect("marker line");
+    assert_eq!(
+        line.matches(" ×").count(),
+        9,
+        "eight texts and the rest: {line}"
+    );
+    assert!(line.contains("more texts ×"), "{line}");
+
+    let cfg = write(
+        dir.path(),
+        "c.yaml",
+        &semicolons.replace(
+            "  timestamp: time",
+            "  timestamp: time\n  decimal-mark: \",\"",
+        ),
+    );
+    let comma = prepare(&Config::load(&cfg).expect("config")).expect("prepare");
+    write(dir.path(), "messy.csv", &messy_csv());
+    let cfg = write(dir.path(), "c.yaml", CONFIG);
+    let point = prepare(&Config::load(&cfg).expect("config")).expect("prepare");
+    assert_eq!(comma.audit.tags, point.audit.tags);
+    assert_eq!(comma.audit.warnings, point.audit.warnings);
+    // Bit for bit (invalid cells hold NaN, which `==` never matches).
+    let bits = |d: &regimix_builder::prepare::Prepared| -> Vec<u64> {
+        d.dataset.inputs.iter().map(|v| v.to_bits()).collect()
+    };
+    assert_eq!(bits(&comma), bits(&point));
+}

@@ -89,7 +89,7 @@ fn c_example_reproduces_the_rust_replay() {
 
     let bytes = std::fs::read(&model_path).expect("model");
     let model = ModelView::parse(&bytes).expect("valid");
-    let (times, rows) = read_inputs(&data, &model, None, b',').expect("inputs");
+    let (times, rows) = read_inputs(&data, &model, None, b',', false).expect("inputs");
     let rust = replay(&bytes, &times, &rows).expect("replay");
     assert_eq!(c_rows.len(), rust.len());
     let mut flagged = 0;

@@ -69,6 +69,9 @@ enum Command {
         /// Field delimiter.
         #[arg(long, default_value_t = ',')]
         delimiter: char,
+        /// Decimal mark of the numbers: `.` or `,`.
+        #[arg(long, default_value_t = '.')]
+        decimal_mark: char,
     },
     /// Show what a model file holds: regimes, operating points, gains, dead times, time
     /// constants, limits and settings.
@@ -103,12 +106,14 @@ pub fn run(cli: Cli) -> anyhow::Result<()> {
             out,
             timestamp,
             delimiter,
+            decimal_mark,
         } => replay::run(
             &model,
             &data,
             out.as_deref(),
             timestamp.as_deref(),
             delimiter,
+            decimal_mark,
         ),
         Command::Inspect { model, json } => inspect::run(&model, json),
     }

@@ -14,6 +14,7 @@ pub fn run(
     out: Option<&Path>,
     timestamp: Option<&str>,
     delimiter: char,
+    decimal_mark: char,
 ) -> anyhow::Result<()> {
     let bytes = std::fs::read(model_path)
         .with_context(|| format!("cannot read model {}", model_path.display()))?;
@@ -21,7 +22,12 @@ pub fn run(
     if !delimiter.is_ascii() {
         anyhow::bail!("--delimiter must be one ASCII character");
     }
-    let (times, rows) = read_inputs(data, &model, timestamp, delimiter as u8)?;
+    let decimal_comma = match decimal_mark {
+        '.' => false,
+        ',' => true,
+        other => anyhow::bail!("--decimal-mark must be `.` or `,`, not `{other}`"),
+    };
+    let (times, rows) = read_inputs(data, &model, timestamp, delimiter as u8, decimal_comma)?;
     let replayed =
         replay(&bytes, &times, &rows).with_context(|| format!("{}", model_path.display()))?;
     let text = to_csv(&replayed, model.n_regimes());

@@ -5,7 +5,7 @@ use std::fmt;
 
 use serde::Serialize;
 
-use super::historian::{RawColumn, RawTable};
+use super::historian::{parse_number, RawColumn, RawTable};
 use super::resample::{Grid, GridSeries};
 use super::screen::Stretch;
 use super::target::{LabPlacement, LabSamples};
@@ -315,6 +315,9 @@ impl Audit {
 /// (common practice: several samples per parameter plus a held-out block).
 pub const MIN_TARGET_SAMPLES: usize = 30;
 
+/// Distinct quality-marker texts listed per tag in the text audit.
+const MARKER_TEXTS: usize = 8;
+
 fn warnings(config: &Config, audit: &Audit, median: Option<i64>) -> Vec<String> {
     let mut out = Vec::new();
     let ts = config.sample_time;
@@ -368,6 +371,23 @@ fn warnings(config: &Config, audit: &Audit, median: Option<i64>) -> Vec<String> 
                 "{name}: {marker_total} cells carry quality markers ({})",
                 kinds.join(", ")
             ));
+            // Numbers written with the other decimal mark read as text: say so.
+            let lab_files = config.target.lab.as_ref().filter(|l| !l.files.is_empty());
+            let (comma, key) = match lab_files {
+                Some(lab) if tag.role == "target" => (lab.decimal_comma, "target.lab.decimal-mark"),
+                _ => (config.decimal_comma, "data.decimal-mark"),
+            };
+            if let Some(text) = tag
+                .markers
+                .keys()
+                .find(|t| parse_number(t, !comma).is_some_and(f64::is_finite))
+            {
+                out.push(format!(
+                    "{name}: cells like `{text}` are numbers with a decimal {}: set `{key}: \"{}\"`",
+                    if comma { "point" } else { "comma" },
+                    if comma { '.' } else { ',' }
+                ));
+            }
         }
         if tag.out_of_range > 0 {
             out.push(format!(
@@ -522,11 +542,22 @@ impl fmt::Display for Audit {
             writeln!(f)?;
             writeln!(f, "Quality markers")?;
             for t in with_markers {
-                let list: Vec<String> = t
-                    .markers
+                // The most frequent texts first; a column of numbers the reader could not parse
+                // would otherwise list every value.
+                let mut texts: Vec<(&String, &u64)> = t.markers.iter().collect();
+                texts.sort_by(|a, b| b.1.cmp(a.1).then(a.0.cmp(b.0)));
+                let mut list: Vec<String> = texts
                     .iter()
+                    .take(MARKER_TEXTS)
                     .map(|(k, v)| format!("\"{k}\" ×{v}"))
                     .collect();
+                if texts.len() > MARKER_TEXTS {
+                    let rest: u64 = texts[MARKER_TEXTS..].iter().map(|(_, v)| **v).sum();
+                    list.push(format!(
+                        "… {} more texts ×{rest}",
+                        texts.len() - MARKER_TEXTS
+                    ));
+                }
                 writeln!(f, "  {:<16} {}", t.tag, list.join(", "))?;
             }
         }

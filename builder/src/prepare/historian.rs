@@ -58,15 +58,15 @@ impl RawColumn {
         }
     }
 
-    fn push_cell(&mut self, text: &str) {
+    fn push_cell(&mut self, text: &str, decimal_comma: bool) {
         let t = text.trim();
         if t.is_empty() {
             self.values.push(f64::NAN);
             self.kinds.push(Observation::Empty);
             return;
         }
-        match t.parse::<f64>() {
-            Ok(v) if v.is_finite() => {
+        match parse_number(t, decimal_comma) {
+            Some(v) if v.is_finite() => {
                 self.values.push(v);
                 self.kinds.push(Observation::Value);
             }
@@ -89,6 +89,24 @@ impl RawColumn {
             .filter(|k| **k != Observation::Empty)
             .count()
     }
+}
+
+/// A number cell: with `decimal_comma`, its comma is the decimal mark and a point makes it text
+/// (it could be a thousands separator); otherwise as Rust parses `f64` (a point, exponents,
+/// `NaN` and `inf`, which the caller treats as markers).
+pub fn parse_number(text: &str, decimal_comma: bool) -> Option<f64> {
+    if !decimal_comma {
+        return text.parse().ok();
+    }
+    let bytes = text.as_bytes();
+    let mut buf = [0u8; 64];
+    if bytes.contains(&b'.') || bytes.len() > buf.len() {
+        return None;
+    }
+    for (to, &from) in buf.iter_mut().zip(bytes) {
+        *to = if from == b',' { b'.' } else { from };
+    }
+    std::str::from_utf8(&buf[..bytes.len()]).ok()?.parse().ok()
 }
 
 /// Rows of one or more files: timestamps and the requested columns.
@@ -115,6 +133,8 @@ pub struct ReadSpec<'a> {
     pub columns: &'a [(String, &'static str)],
     /// Offset of naive timestamps, minutes east of UTC.
     pub naive_offset_minutes: i32,
+    /// Numbers are written with a decimal comma (see [`parse_number`]).
+    pub decimal_comma: bool,
 }
 
 fn csv_error(path: &Path, err: csv::Error) -> DataError {
@@ -268,7 +288,10 @@ pub fn read_file(path: &Path, spec: &ReadSpec<'_>) -> Result<RawTable, DataError
         previous = Some(time);
         times.push(time);
         for (column, &index) in columns.iter_mut().zip(&wanted) {
-            column.push_cell(field_str(&record, index, path, line, &header)?);
+            column.push_cell(
+                field_str(&record, index, path, line, &header)?,
+                spec.decimal_comma,
+            );
         }
     }
     if times.is_empty() {
@@ -395,6 +418,7 @@ mod tests {
             timestamp: "time",
             columns,
             naive_offset_minutes: 0,
+            decimal_comma: false,
         }
     }
 
@@ -435,6 +459,25 @@ mod tests {
         s.delimiter = b';';
         let t = read_file(f.path(), &s).expect("reads");
         assert_eq!(t.columns[0].values, vec![2.5]);
+    }
+
+    #[test]
+    fn decimal_commas_read_as_numbers_when_configured() {
+        let text =
+            "time;TI-1\n1772323200;2,5\n1772323260;-1,25e-3\n1772323320;1.234,5\n1772323380;7\n";
+        let f = file_with(text.as_bytes());
+        let c = cols(&["TI-1"]);
+        let mut s = spec(&c);
+        s.delimiter = b';';
+        s.decimal_comma = true;
+        let t = read_file(f.path(), &s).expect("reads");
+        let v = &t.columns[0].values;
+        assert_eq!((v[0], v[1], v[3]), (2.5, -1.25e-3, 7.0));
+        // A point could be a thousands separator: kept as text, so it shows as a marker.
+        assert_eq!(t.columns[0].kinds[2], Observation::Marker);
+        s.decimal_comma = false;
+        let t = read_file(f.path(), &s).expect("reads");
+        assert_eq!(t.columns[0].markers.get("2,5"), Some(&1));
     }
 
     #[test]

@@ -171,6 +171,7 @@ pub fn prepare(config: &Config) -> Result<Prepared, DataError> {
         timestamp: &config.timestamp,
         columns: &columns,
         naive_offset_minutes: config.naive_offset_minutes,
+        decimal_comma: config.decimal_comma,
     };
     let mut table = historian::read_files(&config.files, &spec)?;
     let (first, last) = match (table.times.first(), table.times.last()) {

@@ -61,6 +61,7 @@ pub fn read_lab_files(lab: &LabSpec, tag: &str) -> Result<LabSamples, DataError>
         timestamp: &lab.timestamp,
         columns: &columns,
         naive_offset_minutes: lab.naive_offset_minutes,
+        decimal_comma: lab.decimal_comma,
     };
     let table = historian::read_files(&lab.files, &spec)?;
     let rows_per_file = table.rows_per_file.clone();
@@ -216,6 +217,7 @@ mod tests {
             timestamp: "drawn".into(),
             delimiter: b';',
             naive_offset_minutes: 60,
+            decimal_comma: false,
             delay: crate::duration::Span::from_secs(0),
             stamped_at: crate::config::LabStamp::Sample,
         };
