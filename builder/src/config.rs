@@ -16,12 +16,12 @@ use crate::timestamp::parse_offset;
 #[derive(Debug, thiserror::Error)]
 pub enum ConfigError {
     /// The file could not be read.
-    #[error("cannot read config {path}: {source}")]
+    #[error("cannot read config {path}: {cause}")]
     Read {
         /// The config path.
         path: PathBuf,
         /// The OS error.
-        source: std::io::Error,
+        cause: std::io::Error,
     },
     /// An unknown key, with the nearest valid ones.
     #[error("{path}: unknown key `{key}`{location}{hint}")]
@@ -532,9 +532,9 @@ pub struct Config {
 impl Config {
     /// Reads, parses and checks a config file.
     pub fn load(path: &Path) -> Result<Config, ConfigError> {
-        let text = std::fs::read_to_string(path).map_err(|source| ConfigError::Read {
+        let text = std::fs::read_to_string(path).map_err(|cause| ConfigError::Read {
             path: path.to_path_buf(),
-            source,
+            cause,
         })?;
         let raw = RawConfig::parse(&text, path)?;
         let base = path.parent().unwrap_or_else(|| Path::new(""));

@@ -8,12 +8,12 @@ use crate::timestamp::{Rfc3339, TimestampError};
 #[derive(Debug, thiserror::Error)]
 pub enum DataError {
     /// The file could not be opened or read.
-    #[error("{path}: cannot read: {source}")]
+    #[error("{path}: cannot read: {cause}")]
     Read {
         /// File.
         path: PathBuf,
         /// OS error.
-        source: std::io::Error,
+        cause: std::io::Error,
     },
     /// The CSV parser failed (e.g. an unterminated quote).
     #[error("{path}:{line}: malformed CSV: {message}")]
@@ -82,7 +82,7 @@ pub enum DataError {
         field: usize,
     },
     /// A timestamp cell that does not parse.
-    #[error("{path}:{line}: column `{column}`: {source}")]
+    #[error("{path}:{line}: column `{column}`: {cause}")]
     Timestamp {
         /// File.
         path: PathBuf,
@@ -91,7 +91,7 @@ pub enum DataError {
         /// Timestamp column name.
         column: String,
         /// What was wrong.
-        source: TimestampError,
+        cause: TimestampError,
     },
     /// Time going backwards inside one file.
     #[error(

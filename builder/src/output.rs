@@ -6,19 +6,19 @@ use std::path::{Path, PathBuf};
 
 /// Why an output could not be written.
 #[derive(Debug, thiserror::Error)]
-#[error("cannot write {path}: {source}")]
+#[error("cannot write {path}: {cause}")]
 pub struct OutputError {
     /// The file being written.
     pub path: PathBuf,
     /// The OS error.
-    pub source: std::io::Error,
+    pub cause: std::io::Error,
 }
 
 /// Writes `bytes` to `path` atomically (temporary file + rename in the same folder).
 pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), OutputError> {
-    let err = |source| OutputError {
+    let err = |cause| OutputError {
         path: path.to_path_buf(),
-        source,
+        cause,
     };
     let folder = match path.parent() {
         Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
@@ -44,7 +44,7 @@ pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), OutputError> {
 /// Writes several files into `dir` so that either all are replaced or none: every file goes to a
 /// temporary name first; only when all are written are they renamed into place.
 pub fn write_all_atomic(dir: &Path, files: &[(&str, &[u8])]) -> Result<(), OutputError> {
-    let err = |path: PathBuf| move |source| OutputError { path, source };
+    let err = |path: PathBuf| move |cause| OutputError { path, cause };
     std::fs::create_dir_all(dir).map_err(err(dir.to_path_buf()))?;
     let mut temps = Vec::with_capacity(files.len());
     for (name, bytes) in files {
@@ -54,14 +54,14 @@ pub fn write_all_atomic(dir: &Path, files: &[(&str, &[u8])]) -> Result<(), Outpu
             f.write_all(bytes)?;
             f.sync_all()
         })();
-        if let Err(source) = result {
+        if let Err(cause) = result {
             let _ = std::fs::remove_file(&temp);
             for (t, _) in &temps {
                 let _ = std::fs::remove_file(t);
             }
             return Err(OutputError {
                 path: dir.join(name),
-                source,
+                cause,
             });
         }
         temps.push((temp, dir.join(name)));

@@ -120,7 +120,7 @@ fn first_column(path: &Path, delimiter: u8) -> Result<String, DataError> {
         .from_path(path)
         .map_err(|e| DataError::Read {
             path: path.to_path_buf(),
-            source: std::io::Error::other(e.to_string()),
+            cause: std::io::Error::other(e.to_string()),
         })?;
     let mut record = csv::StringRecord::new();
     match reader.read_record(&mut record) {

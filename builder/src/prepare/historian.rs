@@ -140,9 +140,9 @@ pub struct ReadSpec<'a> {
 fn csv_error(path: &Path, err: csv::Error) -> DataError {
     let line = err.position().map(|p| p.line()).unwrap_or(0);
     match err.into_kind() {
-        csv::ErrorKind::Io(source) => DataError::Read {
+        csv::ErrorKind::Io(cause) => DataError::Read {
             path: path.to_path_buf(),
-            source,
+            cause,
         },
         other => DataError::Csv {
             path: path.to_path_buf(),
@@ -173,9 +173,9 @@ fn field_str<'r>(
 
 /// Reads one file, streaming, keeping only the timestamp and the requested columns.
 pub fn read_file(path: &Path, spec: &ReadSpec<'_>) -> Result<RawTable, DataError> {
-    let file = File::open(path).map_err(|source| DataError::Read {
+    let file = File::open(path).map_err(|cause| DataError::Read {
         path: path.to_path_buf(),
-        source,
+        cause,
     })?;
     let mut reader = csv::ReaderBuilder::new()
         .delimiter(spec.delimiter)
@@ -265,12 +265,12 @@ pub fn read_file(path: &Path, spec: &ReadSpec<'_>) -> Result<RawTable, DataError
             }
         }
         let ts_text = field_str(&record, ts_index, path, line, &header)?;
-        let time = parse_timestamp(ts_text, spec.naive_offset_minutes).map_err(|source| {
+        let time = parse_timestamp(ts_text, spec.naive_offset_minutes).map_err(|cause| {
             DataError::Timestamp {
                 path: path.to_path_buf(),
                 line,
                 column: spec.timestamp.to_string(),
-                source,
+                cause,
             }
         })?;
         if let Some(prev) = previous {

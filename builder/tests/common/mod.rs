@@ -59,6 +59,15 @@ pub fn assert_clean_failure(out: &Output, needle: &str) {
         1,
         "one message expected: {stderr}"
     );
+    // Each cause once: an error that shows its cause in its message and also hands it on as
+    // its source printed it twice (`{:#}` prints the whole chain).
+    let parts: Vec<&str> = stderr.trim_end().split(": ").collect();
+    for (i, part) in parts.iter().enumerate() {
+        assert!(
+            part.len() < 8 || !parts[i + 1..].contains(part),
+            "`{part}` repeated in: {stderr}"
+        );
+    }
 }
 
 /// Lists the files in `dir`, sorted.
