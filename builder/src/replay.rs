@@ -9,6 +9,7 @@ use regimix_runtime::{state_words, Estimator, Status};
 
 use crate::error::DataError;
 use crate::prepare::historian::{read_file, ReadSpec};
+use crate::prepare::text::open_text;
 use crate::timestamp::{Micros, Rfc3339};
 
 /// One replayed sample.
@@ -113,15 +114,15 @@ pub fn read_inputs(
 }
 
 fn first_column(path: &Path, delimiter: u8) -> Result<String, DataError> {
+    let file = open_text(path).map_err(|cause| DataError::Read {
+        path: path.to_path_buf(),
+        cause,
+    })?;
     let mut reader = csv::ReaderBuilder::new()
         .delimiter(delimiter)
         .has_headers(false)
         .flexible(true)
-        .from_path(path)
-        .map_err(|e| DataError::Read {
-            path: path.to_path_buf(),
-            cause: std::io::Error::other(e.to_string()),
-        })?;
+        .from_reader(file);
     let mut record = csv::StringRecord::new();
     match reader.read_record(&mut record) {
         Ok(true) => Ok(record

@@ -8,7 +8,6 @@
 //! time; for duplicated timestamps the rule of [`merge`] applies.
 
 use std::collections::BTreeMap;
-use std::fs::File;
 use std::io::BufReader;
 use std::path::{Path, PathBuf};
 
@@ -173,7 +172,7 @@ fn field_str<'r>(
 
 /// Reads one file, streaming, keeping only the timestamp and the requested columns.
 pub fn read_file(path: &Path, spec: &ReadSpec<'_>) -> Result<RawTable, DataError> {
-    let file = File::open(path).map_err(|cause| DataError::Read {
+    let file = super::text::open_text(path).map_err(|cause| DataError::Read {
         path: path.to_path_buf(),
         cause,
     })?;

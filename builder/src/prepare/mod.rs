@@ -9,6 +9,7 @@ pub mod historian;
 pub mod resample;
 pub mod screen;
 pub mod target;
+pub mod text;
 
 use ndarray::Array2;
 use regimix_format::transform::Transform;
