@@ -76,6 +76,31 @@ pub enum LabStamp {
     Result,
 }
 
+/// What a lab result below a detection limit (`<0.01`) becomes.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Deserialize, serde::Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum BelowLimit {
+    /// Left out, like a quality marker (the default: no value is made up, but a target that
+    /// often sits below the limit is then only seen above it).
+    #[default]
+    Skip,
+    /// Half the limit (a common substitution when few results are below it).
+    Half,
+    /// The limit itself (an upper bound of the true value).
+    Limit,
+}
+
+impl BelowLimit {
+    /// Factor applied to the limit, or `None` for [`BelowLimit::Skip`].
+    pub fn factor(self) -> Option<f64> {
+        match self {
+            BelowLimit::Skip => None,
+            BelowLimit::Half => Some(0.5),
+            BelowLimit::Limit => Some(1.0),
+        }
+    }
+}
+
 /// Optional transform of the target before modelling.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Deserialize, serde::Serialize)]
 #[serde(rename_all = "kebab-case")]
@@ -336,6 +361,9 @@ pub struct RawLab {
     /// `sample` or `result`.
     #[serde(default)]
     pub stamped_at: LabStamp,
+    /// `skip`, `half` or `limit`: what a result written `<` and a limit becomes.
+    #[serde(default)]
+    pub below_limit: BelowLimit,
     /// Result time minus sample time; required when `stamped-at: result`.
     #[serde(default)]
     pub delay: Option<Span>,
@@ -429,6 +457,8 @@ pub struct LabSpec {
     pub delay: Span,
     /// How the files stamp results.
     pub stamped_at: LabStamp,
+    /// What a below-limit result becomes.
+    pub below_limit: BelowLimit,
 }
 
 /// Checked target settings.
@@ -741,6 +771,7 @@ impl RawConfig {
                         decimal_comma: lab_comma,
                         delay,
                         stamped_at: lab.stamped_at,
+                        below_limit: lab.below_limit,
                     }),
                 )
             }

@@ -196,3 +196,83 @@ fn a_decimal_comma_export_is_explained_then_read_alike() {
     };
     assert_eq!(bits(&comma), bits(&point));
 }
+
+/// Lab results under a detection limit (`<0.05`) are counted on their own, not as markers, and
+/// become what `target.lab.below-limit` says: left out, half the limit, or the limit. A `<`
+/// reading in a process tag is bad.
+#[test]
+fn below_limit_lab_results_follow_the_setting() {
+    let dir = tempfile::tempdir().expect("tempdir");
+    let mut data = String::from("time,TI-A\n");
+    for k in 0..300usize {
+        let a = if k == 40 {
+            "<1".to_string()
+        } else {
+            format!("{:.2}", 100.0 + (k as f64 / 30.0).sin())
+        };
+        data.push_str(&format!("{},{a}\n", stamp(k)));
+    }
+    write(dir.path(), "data.csv", &data);
+    // Ten results, every 25 min from minute 20; three below the 0.05 limit.
+    let mut lab = String::from("time,LAB-1\n");
+    for i in 0..10usize {
+        let value = if [2, 5, 7].contains(&i) {
+            "<0.05".to_string()
+        } else {
+            format!("{:.3}", 0.2 + 0.01 * i as f64)
+        };
+        lab.push_str(&format!("{},{value}\n", stamp(20 + 25 * i)));
+    }
+    write(dir.path(), "lab.csv", &lab);
+    let config = |policy: &str| {
+        format!(
+            "data:\n  files: [data.csv]\n  timestamp: time\nsample-time: 1min\nhold-limit: 3min\n\
+             target:\n  tag: LAB-1\n  unit: '%'\n  source: lab\n  range: [0, 10]\n  lab:\n    \
+             files: [lab.csv]\n{policy}\ninputs:\n  - {{ tag: TI-A, unit: degC }}\n"
+        )
+    };
+    let run = |policy: &str| {
+        let cfg = write(dir.path(), "c.yaml", &config(policy));
+        prepare(&Config::load(&cfg).expect("config")).expect("prepare")
+    };
+    let rows = [20 + 25 * 2, 20 + 25 * 5, 20 + 25 * 7];
+
+    let skip = run("");
+    let target = skip.audit.tags.last().expect("target");
+    assert_eq!((target.below_limit, target.below_limit_used), (3, 0));
+    assert!(target.markers.is_empty(), "{:?}", target.markers);
+    assert_eq!(skip.dataset.usable_target_rows(), 7);
+    assert!(skip.audit.warnings.iter().any(|w| w.contains(
+        "LAB-1: 3 results (30 %) are below a detection limit (`<` and a number) and were left out"
+    )));
+    let input = &skip.audit.tags[0];
+    assert_eq!(input.below_limit, 1);
+    assert_eq!(
+        skip.dataset.input_status[[40, 0]],
+        regimix_builder::prepare::CellStatus::Bad
+    );
+    assert!(skip
+        .audit
+        .warnings
+        .iter()
+        .any(|w| w == "TI-A: 1 cells are below-limit readings (`<` and a number), treated as bad"));
+
+    for (policy, value) in [
+        ("    below-limit: half", 0.025),
+        ("    below-limit: limit", 0.05),
+    ] {
+        let used = run(policy);
+        assert_eq!(used.dataset.usable_target_rows(), 10, "{policy}");
+        for k in rows {
+            assert_eq!(used.dataset.target[k], value, "{policy}");
+        }
+        let target = used.audit.tags.last().expect("target");
+        assert_eq!((target.below_limit, target.below_limit_used), (3, 3));
+        // 30 % is above the 15 % share for simple substitution.
+        assert!(used
+            .audit
+            .warnings
+            .iter()
+            .any(|w| w.starts_with("LAB-1: 30 % of results are below the limit")));
+    }
+}

@@ -10,7 +10,7 @@ use super::resample::{Grid, GridSeries};
 use super::screen::Stretch;
 use super::target::{LabPlacement, LabSamples};
 use super::{CellStatus, Dataset};
-use crate::config::{Config, TagSpec, TargetSource};
+use crate::config::{BelowLimit, Config, TagSpec, TargetSource};
 use crate::duration::Span;
 use crate::timestamp::Rfc3339;
 
@@ -52,6 +52,10 @@ pub struct TagAudit {
     pub valid_percent: f64,
     /// Quality-marker text → count.
     pub markers: BTreeMap<String, u64>,
+    /// Cells written as below a limit (`<0.01`).
+    pub below_limit: usize,
+    /// Of those, how many were used as values (a lab target's `below-limit: half` or `limit`).
+    pub below_limit_used: usize,
     /// Values outside the configured range.
     pub out_of_range: usize,
     /// Frozen stretches.
@@ -132,6 +136,8 @@ impl TagAudit {
             observations: column.observations(),
             valid_percent: 100.0 * n as f64 / grid.len.max(1) as f64,
             markers: column.markers.clone(),
+            below_limit: column.below_limit(),
+            below_limit_used: 0,
             out_of_range,
             frozen: frozen
                 .iter()
@@ -165,6 +171,8 @@ impl TagAudit {
             observations: rows,
             valid_percent: 100.0 * placement.placed as f64 / rows.max(1) as f64,
             markers: samples.column.markers.clone(),
+            below_limit: 0, // counted by the caller before the policy turns them into values
+            below_limit_used: 0,
             out_of_range,
             frozen: Vec::new(),
             spikes: 0,
@@ -389,6 +397,7 @@ fn warnings(config: &Config, audit: &Audit, median: Option<i64>) -> Vec<String> 
                 ));
             }
         }
+        below_limit_warnings(config, tag, &mut out);
         if tag.out_of_range > 0 {
             out.push(format!(
                 "{name}: {} values outside the configured range",
@@ -456,6 +465,48 @@ fn warnings(config: &Config, audit: &Audit, median: Option<i64>) -> Vec<String> 
         }
     }
     out
+}
+
+/// Above this share of below-limit results, a substituted value shapes the low end of the fit
+/// (US EPA, Guidance for Data Quality Assessment QA/G-9, 2000: substitution for fewer than 15 %
+/// non-detects; recalled from memory).
+const SUBSTITUTION_SHARE: f64 = 0.15;
+
+/// What became of a tag's below-limit cells (`<0.01`).
+fn below_limit_warnings(config: &Config, tag: &TagAudit, out: &mut Vec<String>) {
+    let (name, below) = (&tag.tag, tag.below_limit);
+    if below == 0 {
+        return;
+    }
+    let lab = config.target.lab.as_ref().filter(|_| tag.role == "target");
+    let Some(lab) = lab else {
+        out.push(format!(
+            "{name}: {below} cells are below-limit readings (`<` and a number), treated as bad"
+        ));
+        return;
+    };
+    let share = below as f64 / tag.rows.max(1) as f64;
+    if tag.below_limit_used == 0 {
+        out.push(format!(
+            "{name}: {below} results ({:.0} %) are below a detection limit (`<` and a number) and were left out, so the model only sees the target above it; `target.lab.below-limit: half` or `limit` uses them",
+            100.0 * share
+        ));
+        return;
+    }
+    let what = match lab.below_limit {
+        BelowLimit::Half => "half the limit",
+        _ => "the limit",
+    };
+    out.push(format!(
+        "{name}: {} results below a detection limit were used as {what}",
+        tag.below_limit_used
+    ));
+    if share > SUBSTITUTION_SHARE {
+        out.push(format!(
+            "{name}: {:.0} % of results are below the limit: the substituted values shape the low end of the fit; treat estimates near the limit as \"below it\", not as numbers",
+            100.0 * share
+        ));
+    }
 }
 
 fn num(v: Option<f64>) -> String {

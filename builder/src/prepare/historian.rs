@@ -4,7 +4,7 @@
 //! numeric cell becomes a value; an empty cell means "no observation at this time" (tags logged at
 //! different moments leave blanks in a wide export); any other text (`Bad`, `I/O Timeout`,
 //! `Shutdown`, `NaN`) is a quality marker: an observation known to be bad, counted per tag and per
-//! distinct text. Timestamps must not go backwards inside one file. Several files are merged by
+//! distinct text, except `<` and a positive number (`<0.01`), a result below a detection limit. Timestamps must not go backwards inside one file. Several files are merged by
 //! time; for duplicated timestamps the rule of [`merge`] applies.
 
 use std::collections::BTreeMap;
@@ -27,6 +27,10 @@ pub enum Observation {
     Marker = 2,
     /// A number outside the tag's valid range (set by screening, not by the reader).
     OutOfRange = 3,
+    /// A result below a detection or reporting limit, written `<` and the limit (`<0.01`,
+    /// `< 5`); the value holds the limit. Bad for a process tag; what a lab target makes of it
+    /// is `target.lab.below-limit`.
+    BelowLimit = 4,
 }
 
 /// One tag's raw observations, aligned with [`RawTable::times`].
@@ -64,21 +68,30 @@ impl RawColumn {
             self.kinds.push(Observation::Empty);
             return;
         }
-        match parse_number(t, decimal_comma) {
-            Some(v) if v.is_finite() => {
-                self.values.push(v);
-                self.kinds.push(Observation::Value);
-            }
-            _ => {
-                self.values.push(f64::NAN);
-                self.kinds.push(Observation::Marker);
-                if let Some(count) = self.markers.get_mut(t) {
-                    *count += 1;
-                } else {
-                    self.markers.insert(t.to_string(), 1);
+        let (value, kind) = match parse_number(t, decimal_comma) {
+            Some(v) if v.is_finite() => (v, Observation::Value),
+            _ => match below_limit(t, decimal_comma) {
+                Some(limit) => (limit, Observation::BelowLimit),
+                None => {
+                    if let Some(count) = self.markers.get_mut(t) {
+                        *count += 1;
+                    } else {
+                        self.markers.insert(t.to_string(), 1);
+                    }
+                    (f64::NAN, Observation::Marker)
                 }
-            }
-        }
+            },
+        };
+        self.values.push(value);
+        self.kinds.push(kind);
+    }
+
+    /// Cells holding a below-limit result ([`Observation::BelowLimit`]).
+    pub fn below_limit(&self) -> usize {
+        self.kinds
+            .iter()
+            .filter(|k| **k == Observation::BelowLimit)
+            .count()
     }
 
     /// Number of non-empty cells.
@@ -106,6 +119,14 @@ pub fn parse_number(text: &str, decimal_comma: bool) -> Option<f64> {
         *to = if from == b',' { b'.' } else { from };
     }
     std::str::from_utf8(&buf[..bytes.len()]).ok()?.parse().ok()
+}
+
+/// The limit of a below-limit result: `<` or `<=`, then a positive finite number, spaces
+/// allowed between them (`<0.01`, `< 5`, `<=0,2` with a decimal comma).
+fn below_limit(text: &str, decimal_comma: bool) -> Option<f64> {
+    let rest = text.strip_prefix('<')?;
+    let rest = rest.strip_prefix('=').unwrap_or(rest).trim_start();
+    parse_number(rest, decimal_comma).filter(|v| v.is_finite() && *v > 0.0)
 }
 
 /// Rows of one or more files: timestamps and the requested columns.
@@ -448,6 +469,28 @@ mod tests {
         );
         assert_eq!(t.columns[1].values[0], 1.5);
         assert_eq!(t.columns[1].markers.get("NaN"), Some(&1));
+    }
+
+    #[test]
+    fn below_limit_results_keep_their_limit() {
+        let f = file_with(
+            b"time,LAB\n2026-03-01 00:00:00,<0.01\n2026-03-01 00:01:00,< 5\n2026-03-01 00:02:00,<=2e-3\n2026-03-01 00:03:00,<LOD\n2026-03-01 00:04:00,<0\n2026-03-01 00:05:00,>10\n",
+        );
+        let c = cols(&["LAB"]);
+        let t = read_file(f.path(), &spec(&c)).expect("reads");
+        let column = &t.columns[0];
+        use Observation::{BelowLimit, Marker};
+        assert_eq!(
+            column.kinds,
+            vec![BelowLimit, BelowLimit, BelowLimit, Marker, Marker, Marker]
+        );
+        assert_eq!(column.values[..3], [0.01, 5.0, 2e-3]);
+        assert_eq!(column.below_limit(), 3);
+        // Not a limit: no number, a limit that is not positive, an upper limit.
+        let texts: Vec<&str> = column.markers.keys().map(String::as_str).collect();
+        assert_eq!(texts, ["<0", "<LOD", ">10"]);
+        assert_eq!(below_limit("<0,05", true), Some(0.05));
+        assert_eq!(below_limit("<0.05", true), None);
     }
 
     #[test]

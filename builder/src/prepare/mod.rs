@@ -253,9 +253,13 @@ pub fn prepare(config: &Config) -> Result<Prepared, DataError> {
         } else {
             target::read_lab_files(lab_spec, &target_spec.tag)?
         };
+        let below_limit = samples.column.below_limit();
+        let used = target::resolve_below_limit(&mut samples.column, lab_spec.below_limit);
         let out_of_range = screen::apply_range(&mut samples.column, target_spec.range);
         let (series, placed) = target::place_lab(&samples, lab_spec.delay.micros(), &grid);
-        let audit = TagAudit::for_lab(target_spec, &samples, out_of_range, &series, &placed, &grid);
+        let mut audit =
+            TagAudit::for_lab(target_spec, &samples, out_of_range, &series, &placed, &grid);
+        (audit.below_limit, audit.below_limit_used) = (below_limit, used);
         (series, audit, Some(placed))
     };
     tags.push(target_audit);

@@ -83,7 +83,7 @@ pub fn resample(times: &[Micros], column: &RawColumn, grid: &Grid, hold_limit: i
                 values[k] = column.values[i];
                 status[k] = CellStatus::Valid;
             }
-            Observation::Marker => status[k] = CellStatus::Bad,
+            Observation::Marker | Observation::BelowLimit => status[k] = CellStatus::Bad,
             Observation::OutOfRange => status[k] = CellStatus::OutOfRange,
             Observation::Empty => {}
         }

@@ -7,7 +7,7 @@ use regimix_format::transform::Transform;
 use super::historian::{self, Observation, RawColumn, ReadSpec};
 use super::resample::{Grid, GridSeries};
 use super::CellStatus;
-use crate::config::LabSpec;
+use crate::config::{BelowLimit, LabSpec};
 use crate::error::DataError;
 use crate::timestamp::Micros;
 
@@ -75,6 +75,24 @@ pub fn read_lab_files(lab: &LabSpec, tag: &str) -> Result<LabSamples, DataError>
     Ok(samples)
 }
 
+/// Turns below-limit results into values per `policy` (half the limit, or the limit); with
+/// [`BelowLimit::Skip`] they stay bad. Returns how many became values. Runs before the range
+/// check, which then treats them like any other value.
+pub fn resolve_below_limit(column: &mut RawColumn, policy: BelowLimit) -> usize {
+    let Some(factor) = policy.factor() else {
+        return 0;
+    };
+    let mut used = 0;
+    for (value, kind) in column.values.iter_mut().zip(column.kinds.iter_mut()) {
+        if *kind == Observation::BelowLimit {
+            *value *= factor;
+            *kind = Observation::Value;
+            used += 1;
+        }
+    }
+    used
+}
+
 /// How lab samples landed on the grid.
 #[derive(Debug, Clone, Copy, Default, PartialEq, Eq, serde::Serialize)]
 pub struct LabPlacement {
@@ -100,7 +118,7 @@ pub fn place_lab(samples: &LabSamples, delay: i64, grid: &Grid) -> (GridSeries, 
         };
         let status = match samples.column.kinds[i] {
             Observation::Value => CellStatus::Valid,
-            Observation::Marker => CellStatus::Bad,
+            Observation::Marker | Observation::BelowLimit => CellStatus::Bad,
             Observation::OutOfRange => CellStatus::OutOfRange,
             Observation::Empty => continue,
         };
@@ -220,6 +238,7 @@ mod tests {
             decimal_comma: false,
             delay: crate::duration::Span::from_secs(0),
             stamped_at: crate::config::LabStamp::Sample,
+            below_limit: BelowLimit::Skip,
         };
         let samples = read_lab_files(&lab, "XA-1").expect("read");
         // 09:15 at UTC+01:00 is 08:15Z: 1772439300 s since the epoch (Python's datetime).
