@@ -8,7 +8,7 @@ use regimix_format::{DecodeError, ModelView};
 use regimix_runtime::{state_words, Estimator, Status};
 
 use crate::error::DataError;
-use crate::prepare::historian::{read_file, ReadSpec};
+use crate::prepare::historian::{read_file, Observation, RawColumn, ReadSpec};
 use crate::prepare::text::open_text;
 use crate::timestamp::{Micros, Rfc3339};
 
@@ -84,7 +84,8 @@ pub fn replay(
 }
 
 /// Reads a CSV for replay: the timestamp column (default: the first column) and the model's input
-/// tags, one step per row. Quality markers and blanks become NaN (the runtime substitutes them).
+/// tags, one step per row. Quality markers, below-limit readings and blanks become NaN (the
+/// runtime substitutes them).
 pub fn read_inputs(
     path: &Path,
     model: &ModelView<'_>,
@@ -107,8 +108,13 @@ pub fn read_inputs(
         decimal_comma,
     };
     let table = read_file(path, &spec)?;
+    // Only values: a below-limit reading (`<0.01`) holds its limit but is not a measurement.
+    let value = |c: &RawColumn, k: usize| match c.kinds[k] {
+        Observation::Value => c.values[k],
+        _ => f64::NAN,
+    };
     let rows = (0..table.times.len())
-        .map(|k| table.columns.iter().map(|c| c.values[k]).collect())
+        .map(|k| table.columns.iter().map(|c| value(c, k)).collect())
         .collect();
     Ok((table.times, rows))
 }

@@ -133,3 +133,26 @@ fn replay_reads_decimal_commas_alike() {
     );
     assert_clean_failure(&out, "--decimal-mark must be `.` or `,`");
 }
+
+/// A below-limit reading (`<5`) in an input column is not a measurement: `replay` passes it to
+/// the runtime as invalid, exactly as it does a quality marker, not as the limit.
+#[test]
+fn replay_treats_a_below_limit_reading_as_invalid() {
+    let dir = tempfile::tempdir().expect("tempdir");
+    let model = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("../docs/examples/tiny-model.rgmx")
+        .to_string_lossy()
+        .to_string();
+    let rows = |cell: &str| {
+        format!("time,TI-1\n2026-03-02 00:00:00,101.5\n2026-03-02 00:01:00,{cell}\n2026-03-02 00:02:00,97.25\n")
+    };
+    write(dir.path(), "marker.csv", &rows("Bad"));
+    write(dir.path(), "limit.csv", &rows("<5"));
+    let a = regimix(dir.path(), &["replay", &model, "marker.csv"]);
+    let b = regimix(dir.path(), &["replay", &model, "limit.csv"]);
+    assert!(b.status.success(), "{}", String::from_utf8_lossy(&b.stderr));
+    assert_eq!(a.stdout, b.stdout);
+    let text = String::from_utf8_lossy(&b.stdout);
+    let second = text.lines().nth(2).expect("second row");
+    assert!(second.contains(",substituted,"), "{text}");
+}
