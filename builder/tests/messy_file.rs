@@ -276,3 +276,33 @@ fn below_limit_lab_results_follow_the_setting() {
             .any(|w| w.starts_with("LAB-1: 30 % of results are below the limit")));
     }
 }
+
+/// An export with rows of descriptions and units under its header reads to the same data as
+/// one without them, and `check` lists the skipped rows with their file.
+#[test]
+fn label_rows_under_the_header_are_skipped_and_listed() {
+    let dir = tempfile::tempdir().expect("tempdir");
+    let plain = messy_csv();
+    let (header, rest) = plain.split_once('\n').expect("header");
+    write(
+        dir.path(),
+        "messy.csv",
+        &format!("{header}\nDescription,Tray 4,Tray 9,Toluene in distillate\n,degC,degC,%\n{rest}"),
+    );
+    let cfg = write(dir.path(), "c.yaml", CONFIG);
+    let labelled = prepare(&Config::load(&cfg).expect("config")).expect("prepare");
+    let text = regimix(dir.path(), &["check", "c.yaml"]);
+    let text = String::from_utf8_lossy(&text.stdout);
+    assert!(
+        text.contains(
+            "messy.csv (282 rows; 2 label rows under the header skipped: `Description`, (blank))"
+        ),
+        "{text}"
+    );
+    write(dir.path(), "messy.csv", &plain);
+    let bare = prepare(&Config::load(&cfg).expect("config")).expect("prepare");
+    assert_eq!(labelled.audit.tags, bare.audit.tags);
+    assert_eq!(labelled.audit.warnings, bare.audit.warnings);
+    assert_eq!(labelled.audit.files[0].label_rows, ["Description", ""]);
+    assert!(bare.audit.files[0].label_rows.is_empty());
+}

@@ -2,6 +2,7 @@
 
 use std::collections::BTreeMap;
 use std::fmt;
+use std::path::PathBuf;
 
 use serde::Serialize;
 
@@ -194,13 +195,32 @@ pub struct IntervalCount {
     pub count: usize,
 }
 
-/// One data file and its rows.
+/// One data or lab file and its rows.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct FileRows {
     /// Path as given.
     pub path: String,
     /// Data rows read.
     pub rows: usize,
+    /// Timestamp cells of the label rows skipped under the header (descriptions, units).
+    pub label_rows: Vec<String>,
+}
+
+impl FileRows {
+    /// One entry per file, with the label rows skipped in it.
+    pub fn list(rows: &[(PathBuf, usize)], labels: &[(PathBuf, Vec<String>)]) -> Vec<FileRows> {
+        rows.iter()
+            .map(|(path, rows)| FileRows {
+                path: path.display().to_string(),
+                rows: *rows,
+                label_rows: labels
+                    .iter()
+                    .find(|(p, _)| p == path)
+                    .map(|(_, l)| l.clone())
+                    .unwrap_or_default(),
+            })
+            .collect()
+    }
 }
 
 /// Target summary.
@@ -217,7 +237,7 @@ pub struct TargetAudit {
 /// Everything `check` reports.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Audit {
-    /// Files read.
+    /// Files read: the data files, then any lab files.
     pub files: Vec<FileRows>,
     /// First timestamp.
     pub first: String,
@@ -247,13 +267,14 @@ pub struct Audit {
 }
 
 impl Audit {
-    /// Collects the audit after preparation.
+    /// Collects the audit after preparation; `lab_files` are the lab files read (if any).
     pub fn new(
         config: &Config,
         table: &RawTable,
         dataset: &Dataset,
         tags: Vec<TagAudit>,
         lab: Option<LabPlacement>,
+        lab_files: Vec<FileRows>,
     ) -> Audit {
         let mut counts: BTreeMap<i64, usize> = BTreeMap::new();
         for w in table.times.windows(2) {
@@ -285,13 +306,9 @@ impl Audit {
         let first = table.times.first().copied().unwrap_or(0);
         let last = table.times.last().copied().unwrap_or(0);
         let mut audit = Audit {
-            files: table
-                .rows_per_file
-                .iter()
-                .map(|(p, rows)| FileRows {
-                    path: p.display().to_string(),
-                    rows: *rows,
-                })
+            files: FileRows::list(&table.rows_per_file, &table.label_rows)
+                .into_iter()
+                .chain(lab_files)
                 .collect(),
             first: Rfc3339(first).to_string(),
             last: Rfc3339(last).to_string(),
@@ -521,7 +538,24 @@ impl fmt::Display for Audit {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         writeln!(f, "Data")?;
         for file in &self.files {
-            writeln!(f, "  {} ({} rows)", file.path, file.rows)?;
+            write!(f, "  {} ({} rows", file.path, file.rows)?;
+            if !file.label_rows.is_empty() {
+                let labels: Vec<String> = file
+                    .label_rows
+                    .iter()
+                    .map(|l| match l.as_str() {
+                        "" => "(blank)".to_string(),
+                        l => format!("`{l}`"),
+                    })
+                    .collect();
+                write!(
+                    f,
+                    "; {} label rows under the header skipped: {}",
+                    file.label_rows.len(),
+                    labels.join(", ")
+                )?;
+            }
+            writeln!(f, ")")?;
         }
         writeln!(f, "  time span        {} → {}", self.first, self.last)?;
         let spacing: Vec<String> = self

@@ -140,7 +140,15 @@ pub struct RawTable {
     pub rows_per_file: Vec<(PathBuf, usize)>,
     /// Rows dropped by the duplicate-timestamp rule.
     pub duplicate_rows: usize,
+    /// Per file with any, the label rows skipped under its header ([`MAX_LABEL_ROWS`]): their
+    /// timestamp cells (`Description`, `Units`).
+    pub label_rows: Vec<(PathBuf, Vec<String>)>,
 }
+
+/// Most rows under a header that may be labels (tag descriptions, units, ranges, as many
+/// historian exports write) rather than data. Such a row is recognised by a timestamp cell
+/// without a digit; from the first row with a digit in it, every timestamp must parse.
+pub const MAX_LABEL_ROWS: usize = 8;
 
 /// How to read a file.
 #[derive(Debug, Clone)]
@@ -258,6 +266,7 @@ pub fn read_file(path: &Path, spec: &ReadSpec<'_>) -> Result<RawTable, DataError
         .map(|(n, _)| RawColumn::new(n))
         .collect();
     let mut times = Vec::new();
+    let mut labels = Vec::new();
     let mut previous: Option<Micros> = None;
     while reader
         .read_byte_record(&mut record)
@@ -285,6 +294,13 @@ pub fn read_file(path: &Path, spec: &ReadSpec<'_>) -> Result<RawTable, DataError
             }
         }
         let ts_text = field_str(&record, ts_index, path, line, &header)?;
+        if times.is_empty()
+            && labels.len() < MAX_LABEL_ROWS
+            && !ts_text.bytes().any(|b| b.is_ascii_digit())
+        {
+            labels.push(ts_text.trim().to_string());
+            continue;
+        }
         let time = parse_timestamp(ts_text, spec.naive_offset_minutes).map_err(|cause| {
             DataError::Timestamp {
                 path: path.to_path_buf(),
@@ -325,6 +341,11 @@ pub fn read_file(path: &Path, spec: &ReadSpec<'_>) -> Result<RawTable, DataError
         columns,
         rows_per_file: vec![(path.to_path_buf(), rows)],
         duplicate_rows: 0,
+        label_rows: if labels.is_empty() {
+            Vec::new()
+        } else {
+            vec![(path.to_path_buf(), labels)]
+        },
     })
 }
 
@@ -358,6 +379,7 @@ pub fn merge(mut tables: Vec<RawTable>) -> RawTable {
             columns: Vec::new(),
             rows_per_file: Vec::new(),
             duplicate_rows: 0,
+            label_rows: Vec::new(),
         };
     };
     let mut out = RawTable {
@@ -365,10 +387,12 @@ pub fn merge(mut tables: Vec<RawTable>) -> RawTable {
         columns: std::mem::take(&mut first.columns),
         rows_per_file: std::mem::take(&mut first.rows_per_file),
         duplicate_rows: 0,
+        label_rows: std::mem::take(&mut first.label_rows),
     };
     for table in tables.into_iter().skip(1) {
         out.times.extend_from_slice(&table.times);
         out.rows_per_file.extend(table.rows_per_file);
+        out.label_rows.extend(table.label_rows);
         for (dst, src) in out.columns.iter_mut().zip(table.columns) {
             dst.values.extend_from_slice(&src.values);
             dst.kinds.extend_from_slice(&src.kinds);
@@ -491,6 +515,30 @@ mod tests {
         assert_eq!(texts, ["<0", "<LOD", ">10"]);
         assert_eq!(below_limit("<0,05", true), Some(0.05));
         assert_eq!(below_limit("<0.05", true), None);
+    }
+
+    /// Rows of tag descriptions and units under the header are skipped and reported; a row
+    /// with a digit in its timestamp cell is data, and a bad one is still an error.
+    #[test]
+    fn label_rows_under_the_header_are_skipped() {
+        let f = file_with(
+            b"time,TI-1\nDescription,Tray 12 temperature\n,degC\n2026-03-01 00:00:00,1.5\n2026-03-01 00:01:00,1.6\n",
+        );
+        let c = cols(&["TI-1"]);
+        let t = read_file(f.path(), &spec(&c)).expect("reads");
+        assert_eq!(t.columns[0].values, vec![1.5, 1.6]);
+        assert_eq!(t.rows_per_file[0].1, 2);
+        assert_eq!(t.label_rows[0].1, vec!["Description", ""]);
+        let f = file_with(b"time,TI-1\nUnits,degC\n01.03.2026 00:00,1.5\n");
+        let err = read_file(f.path(), &spec(&c)).expect_err("day-first date");
+        assert!(err.to_string().contains(":3: column `time`"), "{err}");
+        // Labels only under the header: a text row after the data is an error.
+        let f = file_with(b"time,TI-1\n2026-03-01 00:00:00,1.5\nUnits,degC\n");
+        assert!(read_file(f.path(), &spec(&c)).is_err());
+        let many = format!("time,TI-1\n{}2026-03-01 00:00:00,1.5\n", "x,y\n".repeat(9));
+        let f = file_with(many.as_bytes());
+        let err = read_file(f.path(), &spec(&c)).expect_err("too many labels");
+        assert!(err.to_string().contains(":10: column `time`"), "{err}");
     }
 
     #[test]

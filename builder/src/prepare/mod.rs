@@ -17,7 +17,7 @@ use regimix_format::transform::Transform;
 use crate::config::{Config, TagSpec, TransformKind};
 use crate::error::DataError;
 use crate::timestamp::Micros;
-use audit::{Audit, TagAudit};
+use audit::{Audit, FileRows, TagAudit};
 use historian::{RawColumn, ReadSpec};
 use resample::{Grid, GridSeries};
 
@@ -260,7 +260,8 @@ pub fn prepare(config: &Config) -> Result<Prepared, DataError> {
         let mut audit =
             TagAudit::for_lab(target_spec, &samples, out_of_range, &series, &placed, &grid);
         (audit.below_limit, audit.below_limit_used) = (below_limit, used);
-        (series, audit, Some(placed))
+        let files = FileRows::list(&samples.rows_per_file, &samples.label_rows);
+        (series, audit, Some((placed, files)))
     };
     tags.push(target_audit);
     let (target_model, target_status, outside) = target::apply_transform(&series, transform);
@@ -277,6 +278,14 @@ pub fn prepare(config: &Config) -> Result<Prepared, DataError> {
         target_status,
         transform,
     };
-    let audit = Audit::new(config, &table, &dataset, tags, lab);
+    let (lab, lab_files) = lab.unzip();
+    let audit = Audit::new(
+        config,
+        &table,
+        &dataset,
+        tags,
+        lab,
+        lab_files.unwrap_or_default(),
+    );
     Ok(Prepared { dataset, audit })
 }

@@ -32,6 +32,10 @@ pub struct LabSamples {
     pub column: RawColumn,
     /// Rows per lab file.
     pub rows_per_file: Vec<(PathBuf, usize)>,
+    /// Label rows skipped under a lab file's header (see [`RawTable::label_rows`]).
+    ///
+    /// [`RawTable::label_rows`]: super::historian::RawTable::label_rows
+    pub label_rows: Vec<(PathBuf, Vec<String>)>,
 }
 
 impl LabSamples {
@@ -49,6 +53,7 @@ impl LabSamples {
                 markers: column.markers,
             },
             rows_per_file: Vec::new(),
+            label_rows: Vec::new(),
         }
     }
 }
@@ -65,6 +70,7 @@ pub fn read_lab_files(lab: &LabSpec, tag: &str) -> Result<LabSamples, DataError>
     };
     let table = historian::read_files(&lab.files, &spec)?;
     let rows_per_file = table.rows_per_file.clone();
+    let label_rows = table.label_rows.clone();
     let column = table
         .columns
         .into_iter()
@@ -72,6 +78,7 @@ pub fn read_lab_files(lab: &LabSpec, tag: &str) -> Result<LabSamples, DataError>
         .unwrap_or_else(|| RawColumn::empty(tag));
     let mut samples = LabSamples::from_column(&table.times, column);
     samples.rows_per_file = rows_per_file;
+    samples.label_rows = label_rows;
     Ok(samples)
 }
 
@@ -209,6 +216,7 @@ mod tests {
                 markers: Default::default(),
             },
             rows_per_file: vec![],
+            label_rows: vec![],
         };
         // Stamped at result time, 2 min after sampling.
         let (s, p) = place_lab(&samples, 120, &grid);
