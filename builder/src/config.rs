@@ -10,7 +10,7 @@ use serde::Deserialize;
 
 use crate::duration::Span;
 use crate::suggest::nearest;
-use crate::timestamp::parse_offset;
+use crate::timestamp::{parse_offset, DateOrder};
 
 /// Why a config file was rejected.
 #[derive(Debug, thiserror::Error)]
@@ -266,6 +266,9 @@ pub struct RawData {
     /// Decimal mark of numbers, `.` or `,`.
     #[serde(default = "default_decimal_mark")]
     pub decimal_mark: char,
+    /// How dates not starting with the year are read: `ymd` (none accepted), `dmy` or `mdy`.
+    #[serde(default)]
+    pub date_order: DateOrder,
 }
 
 /// The `screening` section.
@@ -358,6 +361,9 @@ pub struct RawLab {
     /// Decimal mark of the lab files' numbers (default: `data.decimal-mark`).
     #[serde(default)]
     pub decimal_mark: Option<char>,
+    /// Date order of the lab files' timestamps (default: `data.date-order`).
+    #[serde(default)]
+    pub date_order: Option<DateOrder>,
     /// `sample` or `result`.
     #[serde(default)]
     pub stamped_at: LabStamp,
@@ -453,6 +459,8 @@ pub struct LabSpec {
     pub naive_offset_minutes: i32,
     /// The lab files write numbers with a decimal comma.
     pub decimal_comma: bool,
+    /// How the lab files' dates are read.
+    pub date_order: DateOrder,
     /// Subtracted from each stamp to get the sample time (zero when stamped at sample time).
     pub delay: Span,
     /// How the files stamp results.
@@ -545,6 +553,8 @@ pub struct Config {
     pub naive_offset_minutes: i32,
     /// Numbers are written with a decimal comma.
     pub decimal_comma: bool,
+    /// How dates not starting with the year are read.
+    pub date_order: DateOrder,
     /// Grid spacing.
     pub sample_time: Span,
     /// Maximum age of a held value.
@@ -738,11 +748,13 @@ impl RawConfig {
                 if files.is_empty()
                     && (lab.delimiter.is_some()
                         || lab.naive_offset.is_some()
-                        || lab.decimal_mark.is_some())
+                        || lab.decimal_mark.is_some()
+                        || lab.date_order.is_some())
                 {
                     return Err(invalid(
                         "target.lab",
-                        "`delimiter`, `naive-offset` and `decimal-mark` apply to lab `files`; \
+                        "`delimiter`, `naive-offset`, `decimal-mark` and `date-order` apply to \
+                         lab `files`; \
                          without them the target column of the data files is read with the \
                          `data` settings"
                             .into(),
@@ -769,6 +781,7 @@ impl RawConfig {
                         delimiter: lab_delimiter,
                         naive_offset_minutes: lab_offset,
                         decimal_comma: lab_comma,
+                        date_order: lab.date_order.unwrap_or(self.data.date_order),
                         delay,
                         stamped_at: lab.stamped_at,
                         below_limit: lab.below_limit,
@@ -803,6 +816,7 @@ impl RawConfig {
             delimiter,
             naive_offset_minutes,
             decimal_comma,
+            date_order: self.data.date_order,
             sample_time: ts,
             hold_limit,
             screening: Screening {

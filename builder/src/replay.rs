@@ -10,7 +10,7 @@ use regimix_runtime::{state_words, Estimator, Status};
 use crate::error::DataError;
 use crate::prepare::historian::{read_file, Observation, RawColumn, ReadSpec};
 use crate::prepare::text::open_text;
-use crate::timestamp::{Micros, Rfc3339};
+use crate::timestamp::{DateOrder, Micros, Rfc3339};
 
 /// One replayed sample.
 #[derive(Debug, Clone, PartialEq)]
@@ -92,6 +92,7 @@ pub fn read_inputs(
     timestamp: Option<&str>,
     delimiter: u8,
     decimal_comma: bool,
+    date_order: DateOrder,
 ) -> Result<(Vec<Micros>, Vec<Vec<f64>>), DataError> {
     let timestamp = match timestamp {
         Some(t) => t.to_string(),
@@ -106,6 +107,7 @@ pub fn read_inputs(
         columns: &columns,
         naive_offset_minutes: 0,
         decimal_comma,
+        date_order,
     };
     let table = read_file(path, &spec)?;
     // Only values: a below-limit reading (`<0.01`) holds its limit but is not a measurement.

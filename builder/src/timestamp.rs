@@ -5,7 +5,12 @@
 //!   lower-case `t`/`z`, a space instead of `T`, offsets as `+hh:mm` or `+hhmm`;
 //! - the same without an offset (`2026-03-01 08:15:00`): the configured offset for naive times applies;
 //! - a date alone (`2026-03-01`): midnight;
-//! - epoch seconds, with or without a fraction (`1772352900`, `1772352900.5`).
+//! - epoch seconds, with or without a fraction (`1772352900`, `1772352900.5`);
+//! - with [`DateOrder::Dmy`] or [`DateOrder::Mdy`], also dates with the day or the month first,
+//!   as spreadsheets and regional settings write them (`01.03.2026 08:15`, `3/1/2026 8:15:00 AM`):
+//!   one or two digits for day, month and hour, `.`, `/` or `-` between the date's parts, a
+//!   12-hour clock with `AM`/`PM`. Which of `01/03/2026`'s first two numbers is the day cannot be
+//!   told from the text, hence the setting.
 //!
 //! A leap second (`:60`) is read as the first instant of the next minute. Times are held as
 //! microseconds since 1970-01-01T00:00:00Z; finer digits are rounded to the microsecond.
@@ -14,6 +19,19 @@ use std::fmt;
 
 /// Microseconds since the Unix epoch, UTC.
 pub type Micros = i64;
+
+/// How dates that do not start with the year are read.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, serde::Deserialize, serde::Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum DateOrder {
+    /// Year first only (ISO 8601); other dates are errors that name this setting.
+    #[default]
+    Ymd,
+    /// Day, month, year (`31.12.2026`, `31/12/2026`).
+    Dmy,
+    /// Month, day, year (`12/31/2026`).
+    Mdy,
+}
 
 /// Why a timestamp cell was rejected.
 #[derive(Debug, Clone, PartialEq, Eq, thiserror::Error)]
@@ -82,6 +100,34 @@ struct Cursor<'a> {
 }
 
 impl Cursor<'_> {
+    /// One up to `max` digits.
+    fn some_digits(&mut self, max: usize) -> Option<u32> {
+        let mut value = 0u32;
+        let start = self.pos;
+        while let Some(b) = self.peek().filter(u8::is_ascii_digit) {
+            if self.pos - start == max {
+                return None;
+            }
+            value = value * 10 + u32::from(b - b'0');
+            self.pos += 1;
+        }
+        (self.pos > start).then_some(value)
+    }
+
+    /// `AM` or `PM` (any case) after optional spaces: `Some(true)` for PM.
+    fn meridiem(&mut self) -> Option<bool> {
+        let rest = self.bytes.get(self.pos..)?;
+        let skipped = rest.iter().take_while(|b| **b == b' ').count();
+        let word = rest.get(skipped..skipped + 2)?;
+        let pm = match [word[0].to_ascii_uppercase(), word[1].to_ascii_uppercase()] {
+            [b'A', b'M'] => false,
+            [b'P', b'M'] => true,
+            _ => return None,
+        };
+        self.pos += skipped + 2;
+        Some(pm)
+    }
+
     fn digits(&mut self, count: usize) -> Option<u32> {
         let slice = self.bytes.get(self.pos..self.pos + count)?;
         let mut value = 0u32;
@@ -113,30 +159,74 @@ impl Cursor<'_> {
     }
 }
 
-/// Parses one timestamp cell; `naive_offset_minutes` applies to times written without an offset.
-pub fn parse_timestamp(text: &str, naive_offset_minutes: i32) -> Result<Micros, TimestampError> {
+/// A date that starts with one or two digits and a separator (`01.03.2026`, `3/1/2026`): day
+/// or month first, never epoch seconds.
+fn day_or_month_first(bytes: &[u8]) -> bool {
+    let lead = bytes.iter().take_while(|b| b.is_ascii_digit()).count();
+    (1..=2).contains(&lead) && matches!(bytes.get(lead), Some(b'.' | b'/' | b'-'))
+}
+
+/// Reads `d.m.yyyy` or `m/d/yyyy` (one separator of `.`, `/`, `-`, used twice) as (year, month,
+/// day) in `order`.
+fn day_month_year(
+    c: &mut Cursor<'_>,
+    order: DateOrder,
+    text: &str,
+) -> Result<(i64, u32, u32), TimestampError> {
+    let first = c.some_digits(2).ok_or_else(|| fail(text, "bad date"))?;
+    let separator = c.peek().unwrap_or(b'.');
+    c.pos += 1;
+    let second = c.some_digits(2).ok_or_else(|| fail(text, "bad date"))?;
+    if !c.eat(separator) {
+        return Err(fail(text, "expected the same separator twice in the date"));
+    }
+    let year = c.digits(4).ok_or_else(|| fail(text, "bad year"))? as i64;
+    Ok(match order {
+        DateOrder::Mdy => (year, first, second),
+        _ => (year, second, first),
+    })
+}
+
+/// Parses one timestamp cell; `naive_offset_minutes` applies to times written without an
+/// offset, `order` to dates that do not start with the year.
+pub fn parse_timestamp(
+    text: &str,
+    naive_offset_minutes: i32,
+    order: DateOrder,
+) -> Result<Micros, TimestampError> {
     let trimmed = text.trim();
     if trimmed.is_empty() {
         return Err(fail(text, "empty"));
     }
     let bytes = trimmed.as_bytes();
-    let looks_epoch = bytes
-        .iter()
-        .enumerate()
-        .all(|(i, &b)| b.is_ascii_digit() || b == b'.' || (i == 0 && b == b'-'));
-    if looks_epoch && bytes.get(4) != Some(&b'-') {
-        return parse_epoch(trimmed);
-    }
     let mut c = Cursor { bytes, pos: 0 };
-    let year = c.digits(4).ok_or_else(|| fail(text, "bad year"))? as i64;
-    if !c.eat(b'-') {
-        return Err(fail(text, "expected `-` after the year"));
-    }
-    let month = c.digits(2).ok_or_else(|| fail(text, "bad month"))?;
-    if !c.eat(b'-') {
-        return Err(fail(text, "expected `-` after the month"));
-    }
-    let day = c.digits(2).ok_or_else(|| fail(text, "bad day"))?;
+    let (year, month, day) = if day_or_month_first(bytes) {
+        if order == DateOrder::Ymd {
+            return Err(fail(
+                text,
+                "day or month first: set `date-order` to `dmy` or `mdy`",
+            ));
+        }
+        day_month_year(&mut c, order, text)?
+    } else {
+        let looks_epoch = bytes
+            .iter()
+            .enumerate()
+            .all(|(i, &b)| b.is_ascii_digit() || b == b'.' || (i == 0 && b == b'-'));
+        if looks_epoch && bytes.get(4) != Some(&b'-') {
+            return parse_epoch(trimmed);
+        }
+        let year = c.digits(4).ok_or_else(|| fail(text, "bad year"))? as i64;
+        if !c.eat(b'-') {
+            return Err(fail(text, "expected `-` after the year"));
+        }
+        let month = c.digits(2).ok_or_else(|| fail(text, "bad month"))?;
+        if !c.eat(b'-') {
+            return Err(fail(text, "expected `-` after the month"));
+        }
+        let day = c.digits(2).ok_or_else(|| fail(text, "bad day"))?;
+        (year, month, day)
+    };
     if !(1..=12).contains(&month) {
         return Err(fail(text, "month out of range"));
     }
@@ -150,7 +240,7 @@ pub fn parse_timestamp(text: &str, naive_offset_minutes: i32) -> Result<Micros, 
     if !(c.eat(b'T') || c.eat(b't') || c.eat(b' ')) {
         return Err(fail(text, "expected `T` or a space between date and time"));
     }
-    let hour = c.digits(2).ok_or_else(|| fail(text, "bad hour"))?;
+    let hour = c.some_digits(2).ok_or_else(|| fail(text, "bad hour"))?;
     if !c.eat(b':') {
         return Err(fail(text, "expected `:` after the hour"));
     }
@@ -182,6 +272,13 @@ pub fn parse_timestamp(text: &str, naive_offset_minutes: i32) -> Result<Micros, 
             }
         }
     }
+    let hour = match c.meridiem() {
+        None => hour,
+        Some(_) if !(1..=12).contains(&hour) => {
+            return Err(fail(text, "hour out of range for AM/PM"))
+        }
+        Some(pm) => hour % 12 + if pm { 12 } else { 0 },
+    };
     if hour > 23 || minute > 59 || second > 60 {
         return Err(fail(text, "time of day out of range"));
     }
@@ -306,7 +403,7 @@ mod tests {
     use super::*;
 
     fn utc(text: &str) -> Micros {
-        parse_timestamp(text, 0).expect(text)
+        parse_timestamp(text, 0, DateOrder::Ymd).expect(text)
     }
 
     /// The examples of RFC 3339 section 5.8 ("Examples"), with their instants worked out by hand
@@ -342,7 +439,10 @@ mod tests {
         assert_eq!(utc("2026-03-01 08:15:00"), t);
         assert_eq!(utc("2026-03-01t08:15:00z"), t);
         assert_eq!(utc("2026-03-01T08:15"), t);
-        assert_eq!(parse_timestamp("2026-03-01 09:15:00", 60), Ok(t));
+        assert_eq!(
+            parse_timestamp("2026-03-01 09:15:00", 60, DateOrder::Ymd),
+            Ok(t)
+        );
         assert_eq!(utc("2026-03-01T09:15:00+0100"), t);
         assert_eq!(utc(&(t / 1_000_000).to_string()), t);
         assert_eq!(utc("1772352900.5"), utc("2026-03-01T08:15:00.5Z"));
@@ -355,15 +455,61 @@ mod tests {
             "2026-02-30 00:00:00",
             "2026-13-01 00:00:00",
             "2026-03-01 24:00:00",
-            "2026-03-01 08:15:00 PM",
+            "2026-03-01 13:15:00 PM",
+            "2026-03-01 00:15:00 AM",
             "01/03/2026 08:15",
             "Bad",
             "",
             "1.2.3",
             "2026-03-01T08:15:00+25:00",
         ] {
-            assert!(parse_timestamp(bad, 0).is_err(), "{bad} accepted");
+            assert!(
+                parse_timestamp(bad, 0, DateOrder::Ymd).is_err(),
+                "{bad} accepted"
+            );
         }
+        let err = parse_timestamp("01.03.2026 08:15", 0, DateOrder::Ymd).expect_err("dmy");
+        assert!(err.to_string().contains("set `date-order`"), "{err}");
+        for bad in [
+            "1.3.26 08:15",
+            "01.03/2026",
+            "32.01.2026",
+            "29.02.2026",
+            "001.03.2026",
+            "1.3.2026 8",
+        ] {
+            assert!(
+                parse_timestamp(bad, 0, DateOrder::Dmy).is_err(),
+                "{bad} accepted"
+            );
+        }
+    }
+
+    /// Day-first and month-first dates and the 12-hour clock, checked against the same instant
+    /// in ISO form. 12 AM is midnight and 12 PM noon (the 12-hour convention).
+    #[test]
+    fn day_and_month_first_dates() {
+        let dmy = |text: &str| parse_timestamp(text, 0, DateOrder::Dmy).expect(text);
+        let mdy = |text: &str| parse_timestamp(text, 0, DateOrder::Mdy).expect(text);
+        let t = utc("2026-03-01T08:15:00Z");
+        assert_eq!(dmy("01.03.2026 08:15:00"), t);
+        assert_eq!(dmy("1.3.2026 8:15"), t);
+        assert_eq!(dmy("01/03/2026 08:15"), t);
+        assert_eq!(dmy("01-03-2026T08:15:00Z"), t);
+        assert_eq!(mdy("3/1/2026 8:15:00 AM"), t);
+        assert_eq!(mdy("03/01/2026 08:15 am"), t);
+        assert_eq!(mdy("3/1/2026 8:15:00.5PM"), utc("2026-03-01T20:15:00.5Z"));
+        assert_eq!(mdy("3/1/2026 12:05 AM"), utc("2026-03-01T00:05:00Z"));
+        assert_eq!(mdy("3/1/2026 12:05 PM"), utc("2026-03-01T12:05:00Z"));
+        assert_eq!(dmy("31.12.2026"), utc("2026-12-31"));
+        assert_eq!(mdy("12/31/2026"), utc("2026-12-31"));
+        assert_eq!(
+            parse_timestamp("01.03.2026 09:15", 60, DateOrder::Dmy),
+            Ok(t)
+        );
+        // Year-first dates and epoch seconds read the same whatever the order.
+        assert_eq!(dmy("2026-03-01T08:15:00Z"), t);
+        assert_eq!(mdy(&(t / 1_000_000).to_string()), t);
     }
 
     #[test]

@@ -156,3 +156,47 @@ fn replay_treats_a_below_limit_reading_as_invalid() {
     let second = text.lines().nth(2).expect("second row");
     assert!(second.contains(",substituted,"), "{text}");
 }
+
+/// `replay --date-order` reads day-first and month-first exports to the same estimates as
+/// year-first ones; without it a day-first date is a clean error that names the option.
+#[test]
+fn replay_reads_day_and_month_first_dates_with_date_order() {
+    let dir = tempfile::tempdir().expect("tempdir");
+    let model = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("../docs/examples/tiny-model.rgmx")
+        .to_string_lossy()
+        .to_string();
+    write(
+        dir.path(),
+        "iso.csv",
+        "time,TI-1\n2026-03-02 12:59:00,101.5\n2026-03-02 13:00:00,99.0\n2026-03-02 13:01:00,97.25\n",
+    );
+    write(
+        dir.path(),
+        "dmy.csv",
+        "time,TI-1\n02.03.2026 12:59:00,101.5\n02.03.2026 13:00:00,99.0\n02.03.2026 13:01:00,97.25\n",
+    );
+    write(
+        dir.path(),
+        "mdy.csv",
+        "time,TI-1\n3/2/2026 12:59:00 PM,101.5\n3/2/2026 1:00:00 PM,99.0\n3/2/2026 1:01:00 PM,97.25\n",
+    );
+    let iso = regimix(dir.path(), &["replay", &model, "iso.csv"]);
+    assert!(
+        iso.status.success(),
+        "{}",
+        String::from_utf8_lossy(&iso.stderr)
+    );
+    assert!(String::from_utf8_lossy(&iso.stdout).contains("2026-03-02T13:01:00Z"));
+    for (file, order) in [("dmy.csv", "dmy"), ("mdy.csv", "mdy")] {
+        let out = regimix(dir.path(), &["replay", &model, file, "--date-order", order]);
+        assert!(
+            out.status.success(),
+            "{}",
+            String::from_utf8_lossy(&out.stderr)
+        );
+        assert_eq!(out.stdout, iso.stdout, "{order}");
+    }
+    let out = regimix(dir.path(), &["replay", &model, "dmy.csv"]);
+    assert_clean_failure(&out, "day or month first");
+}

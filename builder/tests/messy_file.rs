@@ -306,3 +306,70 @@ fn label_rows_under_the_header_are_skipped_and_listed() {
     assert_eq!(labelled.audit.files[0].label_rows, ["Description", ""]);
     assert!(bare.audit.files[0].label_rows.is_empty());
 }
+
+/// The same export with day-first (`02.03.2026 14:05:00`) and month-first 12-hour
+/// (`3/2/2026 2:05:00 PM`) timestamps: refused with a message naming `date-order`, then read to
+/// the same findings with `date-order: dmy` and `mdy`.
+#[test]
+fn day_first_and_month_first_exports_read_alike_with_date_order() {
+    let dir = tempfile::tempdir().expect("tempdir");
+    let plain = messy_csv();
+    let cfg = write(dir.path(), "c.yaml", CONFIG);
+    write(dir.path(), "messy.csv", &plain);
+    let iso = prepare(&Config::load(&cfg).expect("config")).expect("prepare");
+    // `2026-03-DD HH:MM:SS` rewritten field by field.
+    let rewrite = |form: &dyn Fn(&str, &str, u32, u32) -> String| -> String {
+        plain
+            .lines()
+            .map(|line| match line.split_once(',') {
+                Some((ts, rest)) if ts.starts_with("2026-") => {
+                    let (month, day) = (&ts[5..7], &ts[8..10]);
+                    let hour: u32 = ts[11..13].parse().expect("hour");
+                    let minute: u32 = ts[14..16].parse().expect("minute");
+                    format!("{},{rest}\n", form(month, day, hour, minute))
+                }
+                _ => format!("{line}\n"),
+            })
+            .collect()
+    };
+    let day_first = rewrite(&|m, d, h, min| format!("{d}.{m}.2026 {h:02}:{min:02}:00"));
+    let month_first = rewrite(&|m, d, h, min| {
+        let (h12, half) = match h {
+            0 => (12, "AM"),
+            1..=11 => (h, "AM"),
+            12 => (12, "PM"),
+            _ => (h - 12, "PM"),
+        };
+        let (m, d) = (m.trim_start_matches('0'), d.trim_start_matches('0'));
+        format!("{m}/{d}/2026 {h12}:{min:02}:00 {half}")
+    });
+    assert!(month_first.contains("3/2/2026 12:00:00 AM"), "midnight");
+    assert!(month_first.contains("3/2/2026 1:05:00 AM"), "morning");
+
+    write(dir.path(), "messy.csv", &day_first);
+    let out = regimix(dir.path(), &["check", "c.yaml"]);
+    common::assert_clean_failure(
+        &out,
+        "day or month first: set `date-order` to `dmy` or `mdy`",
+    );
+    for (text, order) in [(day_first, "dmy"), (month_first, "mdy")] {
+        write(dir.path(), "messy.csv", &text);
+        let cfg = write(
+            dir.path(),
+            "c.yaml",
+            &CONFIG.replace(
+                "  timestamp: time",
+                &format!("  timestamp: time\n  date-order: {order}"),
+            ),
+        );
+        let read = prepare(&Config::load(&cfg).expect("config")).expect(order);
+        assert_eq!(read.dataset.grid.len, iso.dataset.grid.len, "{order}");
+        assert_eq!(
+            read.dataset.grid.time(0),
+            iso.dataset.grid.time(0),
+            "{order}"
+        );
+        assert_eq!(read.audit.tags, iso.audit.tags, "{order}");
+        assert_eq!(read.audit.warnings, iso.audit.warnings, "{order}");
+    }
+}

@@ -5,6 +5,7 @@ use std::path::PathBuf;
 use std::process::Command;
 
 use regimix_builder::replay::{read_inputs, replay};
+use regimix_builder::timestamp::DateOrder;
 use regimix_format::ModelView;
 use regimix_tests::workspace_root;
 
@@ -89,7 +90,8 @@ fn c_example_reproduces_the_rust_replay() {
 
     let bytes = std::fs::read(&model_path).expect("model");
     let model = ModelView::parse(&bytes).expect("valid");
-    let (times, rows) = read_inputs(&data, &model, None, b',', false).expect("inputs");
+    let (times, rows) =
+        read_inputs(&data, &model, None, b',', false, DateOrder::Ymd).expect("inputs");
     let rust = replay(&bytes, &times, &rows).expect("replay");
     assert_eq!(c_rows.len(), rust.len());
     let mut flagged = 0;

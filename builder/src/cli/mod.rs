@@ -72,6 +72,10 @@ enum Command {
         /// Decimal mark of the numbers: `.` or `,`.
         #[arg(long, default_value_t = '.')]
         decimal_mark: char,
+        /// Order of dates that do not start with the year: `dmy` (31.12.2026) or `mdy`
+        /// (12/31/2026); `ymd` accepts year-first dates only.
+        #[arg(long, default_value = "ymd", value_parser = ["ymd", "dmy", "mdy"])]
+        date_order: String,
     },
     /// Show what a model file holds: regimes, operating points, gains, dead times, time
     /// constants, limits and settings.
@@ -107,6 +111,7 @@ pub fn run(cli: Cli) -> anyhow::Result<()> {
             timestamp,
             delimiter,
             decimal_mark,
+            date_order,
         } => replay::run(
             &model,
             &data,
@@ -114,6 +119,7 @@ pub fn run(cli: Cli) -> anyhow::Result<()> {
             timestamp.as_deref(),
             delimiter,
             decimal_mark,
+            &date_order,
         ),
         Command::Inspect { model, json } => inspect::run(&model, json),
     }

@@ -5,6 +5,7 @@ use std::path::Path;
 use anyhow::Context;
 use regimix_builder::output::write_atomic;
 use regimix_builder::replay::{read_inputs, replay, to_csv};
+use regimix_builder::timestamp::DateOrder;
 use regimix_format::ModelView;
 
 /// Replays `data` through the model and writes the estimates (stdout without `--out`).
@@ -15,6 +16,7 @@ pub fn run(
     timestamp: Option<&str>,
     delimiter: char,
     decimal_mark: char,
+    date_order: &str,
 ) -> anyhow::Result<()> {
     let bytes = std::fs::read(model_path)
         .with_context(|| format!("cannot read model {}", model_path.display()))?;
@@ -27,7 +29,19 @@ pub fn run(
         ',' => true,
         other => anyhow::bail!("--decimal-mark must be `.` or `,`, not `{other}`"),
     };
-    let (times, rows) = read_inputs(data, &model, timestamp, delimiter as u8, decimal_comma)?;
+    let date_order = match date_order {
+        "dmy" => DateOrder::Dmy,
+        "mdy" => DateOrder::Mdy,
+        _ => DateOrder::Ymd, // clap allows only ymd, dmy, mdy
+    };
+    let (times, rows) = read_inputs(
+        data,
+        &model,
+        timestamp,
+        delimiter as u8,
+        decimal_comma,
+        date_order,
+    )?;
     let replayed =
         replay(&bytes, &times, &rows).with_context(|| format!("{}", model_path.display()))?;
     let text = to_csv(&replayed, model.n_regimes());

@@ -13,7 +13,7 @@ use std::path::{Path, PathBuf};
 
 use crate::error::DataError;
 use crate::suggest::nearest;
-use crate::timestamp::{parse_timestamp, Micros, Rfc3339};
+use crate::timestamp::{parse_timestamp, DateOrder, Micros, Rfc3339};
 
 /// What one raw cell held.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -163,6 +163,8 @@ pub struct ReadSpec<'a> {
     pub naive_offset_minutes: i32,
     /// Numbers are written with a decimal comma (see [`parse_number`]).
     pub decimal_comma: bool,
+    /// How dates not starting with the year are read.
+    pub date_order: DateOrder,
 }
 
 fn csv_error(path: &Path, err: csv::Error) -> DataError {
@@ -301,14 +303,14 @@ pub fn read_file(path: &Path, spec: &ReadSpec<'_>) -> Result<RawTable, DataError
             labels.push(ts_text.trim().to_string());
             continue;
         }
-        let time = parse_timestamp(ts_text, spec.naive_offset_minutes).map_err(|cause| {
-            DataError::Timestamp {
+        let time = parse_timestamp(ts_text, spec.naive_offset_minutes, spec.date_order).map_err(
+            |cause| DataError::Timestamp {
                 path: path.to_path_buf(),
                 line,
                 column: spec.timestamp.to_string(),
                 cause,
-            }
-        })?;
+            },
+        )?;
         if let Some(prev) = previous {
             if time < prev {
                 return Err(DataError::NonMonotonic {
@@ -463,6 +465,7 @@ mod tests {
             columns,
             naive_offset_minutes: 0,
             decimal_comma: false,
+            date_order: DateOrder::Ymd,
         }
     }
 

@@ -67,6 +67,7 @@ pub fn read_lab_files(lab: &LabSpec, tag: &str) -> Result<LabSamples, DataError>
         columns: &columns,
         naive_offset_minutes: lab.naive_offset_minutes,
         decimal_comma: lab.decimal_comma,
+        date_order: lab.date_order,
     };
     let table = historian::read_files(&lab.files, &spec)?;
     let rows_per_file = table.rows_per_file.clone();
@@ -234,16 +235,17 @@ mod tests {
     }
 
     #[test]
-    fn lab_files_use_their_own_delimiter_and_offset() {
+    fn lab_files_use_their_own_delimiter_offset_and_date_order() {
         let dir = tempfile::tempdir().expect("tempdir");
         let path = dir.path().join("lab.csv");
-        std::fs::write(&path, "drawn;XA-1\n2026-03-02 09:15:00;0.42\n").expect("write");
+        std::fs::write(&path, "drawn;XA-1\n02.03.2026 09:15:00;0.42\n").expect("write");
         let lab = LabSpec {
             files: vec![path],
             timestamp: "drawn".into(),
             delimiter: b';',
             naive_offset_minutes: 60,
             decimal_comma: false,
+            date_order: crate::timestamp::DateOrder::Dmy,
             delay: crate::duration::Span::from_secs(0),
             stamped_at: crate::config::LabStamp::Sample,
             below_limit: BelowLimit::Skip,
