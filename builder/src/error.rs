@@ -69,18 +69,6 @@ pub enum DataError {
         /// Fields on this row.
         found: usize,
     },
-    /// Bytes that are not UTF-8.
-    #[error("{path}:{line}: column {column} (field {field}) is not valid UTF-8; re-export the file as UTF-8")]
-    InvalidUtf8 {
-        /// File.
-        path: PathBuf,
-        /// 1-based line.
-        line: u64,
-        /// Column name, quoted, or `?` in the header.
-        column: String,
-        /// 1-based field number.
-        field: usize,
-    },
     /// A timestamp cell that does not parse.
     #[error("{path}:{line}: column `{column}`: {cause}")]
     Timestamp {

@@ -8,8 +8,8 @@ use regimix_format::{DecodeError, ModelView};
 use regimix_runtime::{state_words, Estimator, Status};
 
 use crate::error::DataError;
-use crate::prepare::historian::{read_file, Observation, RawColumn, ReadSpec};
-use crate::prepare::text::open_text;
+use crate::prepare::historian::{csv_error, read_file, Observation, RawColumn, ReadSpec};
+use crate::prepare::text::{open_text, windows_1252};
 use crate::timestamp::{DateOrder, Micros, Rfc3339};
 
 /// One replayed sample.
@@ -131,23 +131,20 @@ fn first_column(path: &Path, delimiter: u8) -> Result<String, DataError> {
         .has_headers(false)
         .flexible(true)
         .from_reader(file);
-    let mut record = csv::StringRecord::new();
-    match reader.read_record(&mut record) {
-        Ok(true) => Ok(record
-            .get(0)
-            .unwrap_or("")
-            .trim_start_matches('\u{feff}')
-            .trim()
-            .to_string()),
+    let mut record = csv::ByteRecord::new();
+    match reader.read_byte_record(&mut record) {
+        Ok(true) => {
+            let bytes = record.get(0).unwrap_or(b"");
+            let name = match std::str::from_utf8(bytes) {
+                Ok(text) => text.to_string(),
+                Err(_) => windows_1252(bytes),
+            };
+            Ok(name.trim_start_matches('\u{feff}').trim().to_string())
+        }
         Ok(false) => Err(DataError::Empty {
             path: path.to_path_buf(),
         }),
-        Err(_) => Err(DataError::InvalidUtf8 {
-            path: path.to_path_buf(),
-            line: 1,
-            column: "?".into(),
-            field: 1,
-        }),
+        Err(e) => Err(csv_error(path, e)),
     }
 }
 

@@ -307,8 +307,45 @@ fn label_rows_under_the_header_are_skipped_and_listed() {
     assert!(bare.audit.files[0].label_rows.is_empty());
 }
 
-/// The same export with day-first (`02.03.2026 14:05:00`) and month-first 12-hour
-/// (`3/2/2026 2:05:00 PM`) timestamps: refused with a message naming `date-order`, then read to
+/// An export in Windows-1252 (a `°C` in a header, a German quality marker): read, not refused;
+/// the marker is counted under its text and `check` says how many fields were read that way.
+#[test]
+fn a_windows_1252_export_is_read_and_reported() {
+    let dir = tempfile::tempdir().expect("tempdir");
+    let plain = messy_csv();
+    let cfg = write(dir.path(), "c.yaml", CONFIG);
+    let mut bytes = Vec::new();
+    for (k, line) in plain.lines().enumerate() {
+        for part in line.split_inclusive("I/O Timeout") {
+            match part.strip_suffix("I/O Timeout") {
+                Some(head) => {
+                    bytes.extend_from_slice(head.as_bytes());
+                    bytes.extend_from_slice(b"St\xf6rung");
+                }
+                None => bytes.extend_from_slice(part.as_bytes()),
+            }
+        }
+        bytes.extend_from_slice(if k == 0 { b",TI-9 \xb0C\n" } else { b",1\n" });
+    }
+    std::fs::write(dir.path().join("messy.csv"), &bytes).expect("write");
+    let read = prepare(&Config::load(&cfg).expect("config")).expect("prepare");
+    assert_eq!(read.audit.files[0].windows_1252_fields, 2);
+    let out = regimix(dir.path(), &["check", "c.yaml"]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let text = String::from_utf8_lossy(&out.stdout);
+    assert!(
+        text.contains("messy.csv (282 rows; 2 fields not UTF-8, read as Windows-1252)"),
+        "{text}"
+    );
+    assert!(text.contains("St\u{f6}rung"), "{text}");
+}
+
+/// The same export with day-first (`02.03.2026 04:05:00`) and month-first 12-hour
+/// (`3/2/2026 4:05:00 AM`) timestamps: refused with a message naming `date-order`, then read to
 /// the same findings with `date-order: dmy` and `mdy`.
 #[test]
 fn day_first_and_month_first_exports_read_alike_with_date_order() {

@@ -2,11 +2,10 @@
 
 use std::collections::BTreeMap;
 use std::fmt;
-use std::path::PathBuf;
 
 use serde::Serialize;
 
-use super::historian::{parse_number, RawColumn, RawTable};
+use super::historian::{parse_number, FileRead, RawColumn, RawTable};
 use super::resample::{Grid, GridSeries};
 use super::screen::Stretch;
 use super::target::{LabPlacement, LabSamples};
@@ -195,34 +194,6 @@ pub struct IntervalCount {
     pub count: usize,
 }
 
-/// One data or lab file and its rows.
-#[derive(Debug, Clone, PartialEq, Serialize)]
-pub struct FileRows {
-    /// Path as given.
-    pub path: String,
-    /// Data rows read.
-    pub rows: usize,
-    /// Timestamp cells of the label rows skipped under the header (descriptions, units).
-    pub label_rows: Vec<String>,
-}
-
-impl FileRows {
-    /// One entry per file, with the label rows skipped in it.
-    pub fn list(rows: &[(PathBuf, usize)], labels: &[(PathBuf, Vec<String>)]) -> Vec<FileRows> {
-        rows.iter()
-            .map(|(path, rows)| FileRows {
-                path: path.display().to_string(),
-                rows: *rows,
-                label_rows: labels
-                    .iter()
-                    .find(|(p, _)| p == path)
-                    .map(|(_, l)| l.clone())
-                    .unwrap_or_default(),
-            })
-            .collect()
-    }
-}
-
 /// Target summary.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct TargetAudit {
@@ -238,7 +209,7 @@ pub struct TargetAudit {
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Audit {
     /// Files read: the data files, then any lab files.
-    pub files: Vec<FileRows>,
+    pub files: Vec<FileRead>,
     /// First timestamp.
     pub first: String,
     /// Last timestamp.
@@ -274,7 +245,7 @@ impl Audit {
         dataset: &Dataset,
         tags: Vec<TagAudit>,
         lab: Option<LabPlacement>,
-        lab_files: Vec<FileRows>,
+        lab_files: Vec<FileRead>,
     ) -> Audit {
         let mut counts: BTreeMap<i64, usize> = BTreeMap::new();
         for w in table.times.windows(2) {
@@ -306,10 +277,7 @@ impl Audit {
         let first = table.times.first().copied().unwrap_or(0);
         let last = table.times.last().copied().unwrap_or(0);
         let mut audit = Audit {
-            files: FileRows::list(&table.rows_per_file, &table.label_rows)
-                .into_iter()
-                .chain(lab_files)
-                .collect(),
+            files: table.files.iter().cloned().chain(lab_files).collect(),
             first: Rfc3339(first).to_string(),
             last: Rfc3339(last).to_string(),
             sample_time: config.sample_time.to_string(),
@@ -553,6 +521,13 @@ impl fmt::Display for Audit {
                     "; {} label rows under the header skipped: {}",
                     file.label_rows.len(),
                     labels.join(", ")
+                )?;
+            }
+            if file.windows_1252_fields > 0 {
+                write!(
+                    f,
+                    "; {} fields not UTF-8, read as Windows-1252",
+                    file.windows_1252_fields
                 )?;
             }
             writeln!(f, ")")?;

@@ -7,10 +7,14 @@
 //! distinct text, except `<` and a positive number (`<0.01`), a result below a detection limit. Timestamps must not go backwards inside one file. Several files are merged by
 //! time; for duplicated timestamps the rule of [`merge`] applies.
 
+use std::borrow::Cow;
 use std::collections::BTreeMap;
 use std::io::BufReader;
 use std::path::{Path, PathBuf};
 
+use serde::Serialize;
+
+use super::text::windows_1252;
 use crate::error::DataError;
 use crate::suggest::nearest;
 use crate::timestamp::{parse_timestamp, DateOrder, Micros, Rfc3339};
@@ -136,13 +140,24 @@ pub struct RawTable {
     pub times: Vec<Micros>,
     /// Requested columns, in request order.
     pub columns: Vec<RawColumn>,
-    /// Rows read per file.
-    pub rows_per_file: Vec<(PathBuf, usize)>,
+    /// What was read from each file, in reading order.
+    pub files: Vec<FileRead>,
     /// Rows dropped by the duplicate-timestamp rule.
     pub duplicate_rows: usize,
-    /// Per file with any, the label rows skipped under its header ([`MAX_LABEL_ROWS`]): their
-    /// timestamp cells (`Description`, `Units`).
-    pub label_rows: Vec<(PathBuf, Vec<String>)>,
+}
+
+/// What one file gave: its rows, and what was read in a way the user should know about.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct FileRead {
+    /// Path as given.
+    pub path: String,
+    /// Data rows read.
+    pub rows: usize,
+    /// Timestamp cells of the label rows skipped under the header ([`MAX_LABEL_ROWS`]):
+    /// `Description`, `Units`.
+    pub label_rows: Vec<String>,
+    /// Fields that were not UTF-8 and were read as Windows-1252 ([`windows_1252`]).
+    pub windows_1252_fields: u64,
 }
 
 /// Most rows under a header that may be labels (tag descriptions, units, ranges, as many
@@ -167,7 +182,8 @@ pub struct ReadSpec<'a> {
     pub date_order: DateOrder,
 }
 
-fn csv_error(path: &Path, err: csv::Error) -> DataError {
+/// A CSV reader error as a [`DataError`] naming the file (and the line where known).
+pub(crate) fn csv_error(path: &Path, err: csv::Error) -> DataError {
     let line = err.position().map(|p| p.line()).unwrap_or(0);
     match err.into_kind() {
         csv::ErrorKind::Io(cause) => DataError::Read {
@@ -182,23 +198,25 @@ fn csv_error(path: &Path, err: csv::Error) -> DataError {
     }
 }
 
-fn field_str<'r>(
-    record: &'r csv::ByteRecord,
-    index: usize,
-    path: &Path,
-    line: u64,
-    header: &[String],
-) -> Result<&'r str, DataError> {
-    let bytes = record.get(index).unwrap_or(b"");
-    std::str::from_utf8(bytes).map_err(|_| DataError::InvalidUtf8 {
-        path: path.to_path_buf(),
-        line,
-        column: header
-            .get(index)
-            .map(|h| format!("`{h}`"))
-            .unwrap_or_else(|| "?".into()),
-        field: index + 1,
-    })
+/// Reads fields as text: UTF-8 as it is, anything else as Windows-1252 ([`windows_1252`]),
+/// counted so that `check` can say so.
+#[derive(Debug, Default)]
+struct FieldText {
+    /// Fields read that were not UTF-8.
+    legacy: u64,
+}
+
+impl FieldText {
+    fn get<'r>(&mut self, record: &'r csv::ByteRecord, index: usize) -> Cow<'r, str> {
+        let bytes = record.get(index).unwrap_or(b"");
+        match std::str::from_utf8(bytes) {
+            Ok(text) => Cow::Borrowed(text),
+            Err(_) => {
+                self.legacy += 1;
+                Cow::Owned(windows_1252(bytes))
+            }
+        }
+    }
 }
 
 /// Reads one file, streaming, keeping only the timestamp and the requested columns.
@@ -222,9 +240,10 @@ pub fn read_file(path: &Path, spec: &ReadSpec<'_>) -> Result<RawTable, DataError
             path: path.to_path_buf(),
         });
     }
+    let mut fields = FieldText::default();
     let mut header = Vec::with_capacity(record.len());
     for i in 0..record.len() {
-        let name = field_str(&record, i, path, 1, &[])?;
+        let name = fields.get(&record, i);
         let name = name.trim_start_matches('\u{feff}').trim();
         if header.iter().any(|h: &String| h == name) && !name.is_empty() {
             return Err(DataError::DuplicateColumn {
@@ -290,12 +309,7 @@ pub fn read_file(path: &Path, spec: &ReadSpec<'_>) -> Result<RawTable, DataError
                 found: record.len(),
             });
         }
-        if std::str::from_utf8(record.as_slice()).is_err() {
-            for i in 0..record.len() {
-                field_str(&record, i, path, line, &header)?;
-            }
-        }
-        let ts_text = field_str(&record, ts_index, path, line, &header)?;
+        let ts_text = fields.get(&record, ts_index);
         if times.is_empty()
             && labels.len() < MAX_LABEL_ROWS
             && !ts_text.bytes().any(|b| b.is_ascii_digit())
@@ -303,7 +317,7 @@ pub fn read_file(path: &Path, spec: &ReadSpec<'_>) -> Result<RawTable, DataError
             labels.push(ts_text.trim().to_string());
             continue;
         }
-        let time = parse_timestamp(ts_text, spec.naive_offset_minutes, spec.date_order).map_err(
+        let time = parse_timestamp(&ts_text, spec.naive_offset_minutes, spec.date_order).map_err(
             |cause| DataError::Timestamp {
                 path: path.to_path_buf(),
                 line,
@@ -326,10 +340,7 @@ pub fn read_file(path: &Path, spec: &ReadSpec<'_>) -> Result<RawTable, DataError
         previous = Some(time);
         times.push(time);
         for (column, &index) in columns.iter_mut().zip(&wanted) {
-            column.push_cell(
-                field_str(&record, index, path, line, &header)?,
-                spec.decimal_comma,
-            );
+            column.push_cell(&fields.get(&record, index), spec.decimal_comma);
         }
     }
     if times.is_empty() {
@@ -341,13 +352,13 @@ pub fn read_file(path: &Path, spec: &ReadSpec<'_>) -> Result<RawTable, DataError
     Ok(RawTable {
         times,
         columns,
-        rows_per_file: vec![(path.to_path_buf(), rows)],
+        files: vec![FileRead {
+            path: path.display().to_string(),
+            rows,
+            label_rows: labels,
+            windows_1252_fields: fields.legacy,
+        }],
         duplicate_rows: 0,
-        label_rows: if labels.is_empty() {
-            Vec::new()
-        } else {
-            vec![(path.to_path_buf(), labels)]
-        },
     })
 }
 
@@ -379,22 +390,19 @@ pub fn merge(mut tables: Vec<RawTable>) -> RawTable {
         return RawTable {
             times: Vec::new(),
             columns: Vec::new(),
-            rows_per_file: Vec::new(),
+            files: Vec::new(),
             duplicate_rows: 0,
-            label_rows: Vec::new(),
         };
     };
     let mut out = RawTable {
         times: std::mem::take(&mut first.times),
         columns: std::mem::take(&mut first.columns),
-        rows_per_file: std::mem::take(&mut first.rows_per_file),
+        files: std::mem::take(&mut first.files),
         duplicate_rows: 0,
-        label_rows: std::mem::take(&mut first.label_rows),
     };
     for table in tables.into_iter().skip(1) {
         out.times.extend_from_slice(&table.times);
-        out.rows_per_file.extend(table.rows_per_file);
-        out.label_rows.extend(table.label_rows);
+        out.files.extend(table.files);
         for (dst, src) in out.columns.iter_mut().zip(table.columns) {
             dst.values.extend_from_slice(&src.values);
             dst.kinds.extend_from_slice(&src.kinds);
@@ -520,6 +528,29 @@ mod tests {
         assert_eq!(below_limit("<0.05", true), None);
     }
 
+    /// Fields that are not UTF-8 are read as Windows-1252 and counted: a unit in the header
+    /// (`°C`) and a quality marker in a cell (`Störung`), as Western European exports write them.
+    #[test]
+    fn fields_that_are_not_utf8_read_as_windows_1252() {
+        let f = file_with(
+            b"time,TI-1,TI-2 \xb0C\n2026-03-01 00:00:00,1.5,2\n2026-03-01 00:01:00,St\xf6rung,2\n",
+        );
+        let c = cols(&["TI-1", "TI-2 \u{b0}C"]);
+        let t = read_file(f.path(), &spec(&c)).expect("reads");
+        assert_eq!(t.columns[0].kinds[1], Observation::Marker);
+        assert_eq!(t.columns[0].markers.get("St\u{f6}rung"), Some(&1));
+        assert_eq!(t.columns[1].values, vec![2.0, 2.0]);
+        assert_eq!(t.files[0].windows_1252_fields, 2);
+        let f = file_with(b"time,TI-1\n2026-03-01 00:00:00,1.5\n");
+        assert_eq!(
+            read_file(f.path(), &spec(&cols(&["TI-1"])))
+                .expect("reads")
+                .files[0]
+                .windows_1252_fields,
+            0
+        );
+    }
+
     /// Rows of tag descriptions and units under the header are skipped and reported; a row
     /// with a digit in its timestamp cell is data, and a bad one is still an error.
     #[test]
@@ -530,8 +561,8 @@ mod tests {
         let c = cols(&["TI-1"]);
         let t = read_file(f.path(), &spec(&c)).expect("reads");
         assert_eq!(t.columns[0].values, vec![1.5, 1.6]);
-        assert_eq!(t.rows_per_file[0].1, 2);
-        assert_eq!(t.label_rows[0].1, vec!["Description", ""]);
+        assert_eq!(t.files[0].rows, 2);
+        assert_eq!(t.files[0].label_rows, vec!["Description", ""]);
         let f = file_with(b"time,TI-1\nUnits,degC\n01.03.2026 00:00,1.5\n");
         let err = read_file(f.path(), &spec(&c)).expect_err("day-first date");
         assert!(err.to_string().contains(":3: column `time`"), "{err}");
@@ -598,10 +629,6 @@ mod tests {
                 "when daylight saving ends: export in UTC",
             ),
             (
-                b"time,TI-1\n2026-03-01 00:00:00,\xff\xfe\n",
-                ":2: column `TI-1` (field 2) is not valid UTF-8",
-            ),
-            (
                 b"time,TI-2\n2026-03-01 00:00:00,1\n",
                 ":1: no column `TI-1` (the input); did you mean `TI-2`?",
             ),
@@ -638,7 +665,7 @@ mod tests {
         // 00:01 has a value (2) and a later marker: the value wins. 00:02: file b is later, 30 wins.
         assert_eq!(t.columns[0].values, vec![1.0, 2.0, 30.0, 4.0]);
         assert_eq!(t.duplicate_rows, 2);
-        assert_eq!(t.rows_per_file.len(), 2);
+        assert_eq!(t.files.len(), 2);
     }
 
     #[test]

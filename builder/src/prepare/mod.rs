@@ -17,7 +17,7 @@ use regimix_format::transform::Transform;
 use crate::config::{Config, TagSpec, TransformKind};
 use crate::error::DataError;
 use crate::timestamp::Micros;
-use audit::{Audit, FileRows, TagAudit};
+use audit::{Audit, TagAudit};
 use historian::{RawColumn, ReadSpec};
 use resample::{Grid, GridSeries};
 
@@ -261,7 +261,7 @@ pub fn prepare(config: &Config) -> Result<Prepared, DataError> {
         let mut audit =
             TagAudit::for_lab(target_spec, &samples, out_of_range, &series, &placed, &grid);
         (audit.below_limit, audit.below_limit_used) = (below_limit, used);
-        let files = FileRows::list(&samples.rows_per_file, &samples.label_rows);
+        let files = samples.files.clone();
         (series, audit, Some((placed, files)))
     };
     tags.push(target_audit);

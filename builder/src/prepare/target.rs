@@ -1,10 +1,8 @@
 //! Target alignment: analyzer dead time, lab samples onto the grid, the target transform.
 
-use std::path::PathBuf;
-
 use regimix_format::transform::Transform;
 
-use super::historian::{self, Observation, RawColumn, ReadSpec};
+use super::historian::{self, FileRead, Observation, RawColumn, ReadSpec};
 use super::resample::{Grid, GridSeries};
 use super::CellStatus;
 use crate::config::{BelowLimit, LabSpec};
@@ -30,12 +28,8 @@ pub struct LabSamples {
     pub times: Vec<Micros>,
     /// Values, kinds and marker counts.
     pub column: RawColumn,
-    /// Rows per lab file.
-    pub rows_per_file: Vec<(PathBuf, usize)>,
-    /// Label rows skipped under a lab file's header (see [`RawTable::label_rows`]).
-    ///
-    /// [`RawTable::label_rows`]: super::historian::RawTable::label_rows
-    pub label_rows: Vec<(PathBuf, Vec<String>)>,
+    /// What was read from each lab file (none when the data files hold the lab values).
+    pub files: Vec<FileRead>,
 }
 
 impl LabSamples {
@@ -52,8 +46,7 @@ impl LabSamples {
                 kinds: keep.iter().map(|&i| column.kinds[i]).collect(),
                 markers: column.markers,
             },
-            rows_per_file: Vec::new(),
-            label_rows: Vec::new(),
+            files: Vec::new(),
         }
     }
 }
@@ -70,16 +63,14 @@ pub fn read_lab_files(lab: &LabSpec, tag: &str) -> Result<LabSamples, DataError>
         date_order: lab.date_order,
     };
     let table = historian::read_files(&lab.files, &spec)?;
-    let rows_per_file = table.rows_per_file.clone();
-    let label_rows = table.label_rows.clone();
+    let files = table.files;
     let column = table
         .columns
         .into_iter()
         .next()
         .unwrap_or_else(|| RawColumn::empty(tag));
     let mut samples = LabSamples::from_column(&table.times, column);
-    samples.rows_per_file = rows_per_file;
-    samples.label_rows = label_rows;
+    samples.files = files;
     Ok(samples)
 }
 
@@ -216,8 +207,7 @@ mod tests {
                 ],
                 markers: Default::default(),
             },
-            rows_per_file: vec![],
-            label_rows: vec![],
+            files: vec![],
         };
         // Stamped at result time, 2 min after sampling.
         let (s, p) = place_lab(&samples, 120, &grid);

@@ -1,5 +1,8 @@
 //! Opening a text export whatever its Unicode encoding form: UTF-8 as is, UTF-16 (which Windows
-//! tools write as "Unicode text", marked by a byte-order mark) decoded to UTF-8 while streaming.
+//! tools write as "Unicode text", marked by a byte-order mark) decoded to UTF-8 while streaming;
+//! and reading a field that is not UTF-8 as Windows-1252, the single-byte code page of Western
+//! European Windows installations and of their spreadsheet and historian-client CSV exports
+//! (`°C` in a unit header, `Störung` as a quality marker).
 
 use std::fs::File;
 use std::io::{self, Read};
@@ -25,6 +28,28 @@ pub fn open_text(path: &Path) -> io::Result<Box<dyn Read>> {
         [0xFE, 0xFF] => Box::new(Utf16Reader::new(file, false)),
         _ => Box::new(io::Cursor::new(head).take(got as u64).chain(file)),
     })
+}
+
+/// Characters of bytes 0x80–0x9F in Windows-1252, as the WHATWG Encoding Standard's
+/// `index-windows-1252` maps them (the five bytes the code page leaves unassigned map to the C1
+/// control of the same number). Bytes below 0x80 are ASCII and 0xA0–0xFF are U+00A0–U+00FF.
+const WINDOWS_1252_HIGH: [char; 32] = [
+    '\u{20AC}', '\u{0081}', '\u{201A}', '\u{0192}', '\u{201E}', '\u{2026}', '\u{2020}', '\u{2021}',
+    '\u{02C6}', '\u{2030}', '\u{0160}', '\u{2039}', '\u{0152}', '\u{008D}', '\u{017D}', '\u{008F}',
+    '\u{0090}', '\u{2018}', '\u{2019}', '\u{201C}', '\u{201D}', '\u{2022}', '\u{2013}', '\u{2014}',
+    '\u{02DC}', '\u{2122}', '\u{0161}', '\u{203A}', '\u{0153}', '\u{009D}', '\u{017E}', '\u{0178}',
+];
+
+/// Decodes `bytes` as Windows-1252: every byte is one character, so nothing is lost or refused.
+/// Used for fields that are not UTF-8 (see the module note).
+pub fn windows_1252(bytes: &[u8]) -> String {
+    bytes
+        .iter()
+        .map(|&b| match b {
+            0x80..=0x9F => WINDOWS_1252_HIGH[usize::from(b - 0x80)],
+            _ => char::from(b),
+        })
+        .collect()
 }
 
 /// Decodes UTF-16 code units from `inner` into UTF-8. Unpaired surrogates and a trailing odd
@@ -202,5 +227,16 @@ mod tests {
             let expected = if name == "one.csv" { "x" } else { TEXT };
             assert_eq!(s, expected, "{name}");
         }
+    }
+
+    /// Every byte against encoding_rs 0.8 (the WHATWG Encoding Standard's decoder, as browsers
+    /// use it): `windows-1252` there is the same mapping as `index-windows-1252`.
+    #[test]
+    fn windows_1252_matches_the_whatwg_decoder() {
+        let all: Vec<u8> = (0..=255).collect();
+        let (reference, had_errors) = encoding_rs::WINDOWS_1252.decode_without_bom_handling(&all);
+        assert!(!had_errors);
+        assert_eq!(windows_1252(&all), reference);
+        assert_eq!(windows_1252(b"\xb0C \x80"), "\u{b0}C \u{20ac}");
     }
 }
