@@ -5,7 +5,8 @@
 //!   lower-case `t`/`z`, a space instead of `T`, offsets as `+hh:mm` or `+hhmm`;
 //! - the same without an offset (`2026-03-01 08:15:00`): the configured offset for naive times applies;
 //! - a date alone (`2026-03-01`): midnight;
-//! - epoch seconds, with or without a fraction (`1772352900`, `1772352900.5`);
+//! - epoch time, with or without a fraction: seconds (`1772352900`, `1772352900.5`), or
+//!   milliseconds, microseconds or nanoseconds told apart by size (`1772352900500`);
 //! - with [`DateOrder::Dmy`] or [`DateOrder::Mdy`], also dates with the day or the month first,
 //!   as spreadsheets and regional settings write them (`01.03.2026 08:15`, `3/1/2026 8:15:00 AM`):
 //!   one or two digits for day, month and hour, `.`, `/` or `-` between the date's parts, a
@@ -35,7 +36,7 @@ pub enum DateOrder {
 
 /// Why a timestamp cell was rejected.
 #[derive(Debug, Clone, PartialEq, Eq, thiserror::Error)]
-#[error("`{text}` is not a timestamp ({reason}); expected RFC 3339 like `2026-03-01T08:15:00Z`, `2026-03-01 08:15:00` or epoch seconds")]
+#[error("`{text}` is not a timestamp ({reason}); expected RFC 3339 like `2026-03-01T08:15:00Z`, `2026-03-01 08:15:00` or epoch time")]
 pub struct TimestampError {
     /// The cell text (shortened when long).
     pub text: String,
@@ -313,38 +314,49 @@ pub fn parse_timestamp(
     Ok(seconds * 1_000_000 + micros)
 }
 
+/// Epoch time in the unit its size implies: seconds below 10^11 (which is the year 5138), then
+/// milliseconds below 10^14, microseconds below 10^17, else nanoseconds, as time-series databases
+/// and message brokers export them. A fraction is allowed in every unit; the time is rounded to
+/// the microsecond, half away from zero, from its digits down to the nanosecond.
 fn parse_epoch(text: &str) -> Result<Micros, TimestampError> {
     let (whole, frac) = match text.split_once('.') {
         Some((w, f)) => (w, f),
         None => (text, ""),
     };
     if frac.contains('.') || (whole.is_empty() || whole == "-") && frac.is_empty() {
-        return Err(fail(text, "malformed epoch seconds"));
+        return Err(fail(text, "malformed epoch time"));
     }
     let negative = whole.starts_with('-');
-    let seconds: i64 = if whole.is_empty() || whole == "-" {
+    let digits = whole.trim_start_matches('-');
+    let magnitude: i128 = if digits.is_empty() {
         0
     } else {
-        whole
+        digits
             .parse()
-            .map_err(|_| fail(text, "epoch seconds out of range"))?
+            .map_err(|_| fail(text, "epoch time out of range"))?
     };
-    if seconds.unsigned_abs() > 100_000_000_000 {
-        return Err(fail(text, "epoch seconds out of range"));
-    }
-    let mut micros = 0i64;
-    let mut scale = 100_000i64;
-    for b in frac.bytes().take(7) {
-        let digit = i64::from(b - b'0');
-        if scale >= 1 {
-            micros += digit * scale;
-            scale /= 10;
-        } else if digit >= 5 {
-            micros += 1;
+    // Nanoseconds per unit.
+    let unit: i128 = match magnitude {
+        m if m < 100_000_000_000 => 1_000_000_000,
+        m if m < 100_000_000_000_000 => 1_000_000,
+        m if m < 100_000_000_000_000_000 => 1_000,
+        m if m < 10_000_000_000_000_000_000 => 1,
+        _ => return Err(fail(text, "epoch time out of range")),
+    };
+    // The fraction to the nanosecond (finer digits dropped), then rounded to the microsecond,
+    // half away from zero.
+    let mut nanos = magnitude * unit;
+    let mut scale = unit;
+    for b in frac.bytes() {
+        scale /= 10;
+        if scale == 0 {
+            break;
         }
+        nanos += i128::from(b - b'0') * scale;
     }
-    let sign = if negative { -1 } else { 1 };
-    Ok(seconds * 1_000_000 + sign * micros)
+    let micros = (nanos + 500) / 1_000;
+    let micros = if negative { -micros } else { micros };
+    i64::try_from(micros).map_err(|_| fail(text, "epoch time out of range"))
 }
 
 /// A timestamp written back as RFC 3339 in UTC (`2026-03-01T08:15:00Z`, fraction only when needed).
@@ -446,6 +458,18 @@ mod tests {
         assert_eq!(utc("2026-03-01T09:15:00+0100"), t);
         assert_eq!(utc(&(t / 1_000_000).to_string()), t);
         assert_eq!(utc("1772352900.5"), utc("2026-03-01T08:15:00.5Z"));
+        // Milliseconds, microseconds and nanoseconds, told apart by size.
+        let half = utc("2026-03-01T08:15:00.5Z");
+        for text in ["1772352900500", "1772352900500000", "1772352900500000000"] {
+            assert_eq!(utc(text), half, "{text}");
+        }
+        assert_eq!(utc("1772352900500.25"), half + 250);
+        assert_eq!(utc("1772352900500000499"), half);
+        assert_eq!(utc("1772352900500000500"), half + 1);
+        assert_eq!(utc("99999999999"), 99_999_999_999_000_000); // the year 5138, in seconds
+        assert_eq!(utc("100000000000"), 100_000_000_000_000); // 1973, in milliseconds
+        assert_eq!(utc("-1.0000005"), -1_000_001);
+        assert!(parse_timestamp("10000000000000000000", 0, DateOrder::Ymd).is_err());
         assert_eq!(utc("2026-03-01"), utc("2026-03-01T00:00:00Z"));
     }
 
