@@ -197,6 +197,61 @@ fn a_decimal_comma_export_is_explained_then_read_alike() {
     assert_eq!(bits(&comma), bits(&point));
 }
 
+/// TI-A written in thousandths with digits grouped in threes (`"100,123.4"`, as spreadsheets
+/// write large numbers) reads as the same numbers written without grouping; a comma with three
+/// digits and no decimal point behind it (`"100,123"`) could be a decimal comma: text, and
+/// `check` names both readings.
+#[test]
+fn grouped_digits_read_as_the_same_numbers() {
+    let dir = tempfile::tempdir().expect("tempdir");
+    let config = CONFIG.replace("range: [0, 200]", "range: [0, 200000]");
+    let cfg = write(dir.path(), "c.yaml", &config);
+    let rewrite = |form: &dyn Fn(f64) -> String| -> String {
+        messy_csv()
+            .lines()
+            .map(|line| {
+                let mut cells: Vec<String> = line.split(',').map(String::from).collect();
+                if let Some(v) = cells.get(1).and_then(|c| c.parse::<f64>().ok()) {
+                    cells[1] = form(v * 1000.0);
+                }
+                cells.join(",") + "\n"
+            })
+            .collect()
+    };
+    let group = |v: f64| {
+        let text = format!("{v:.1}");
+        let (int, frac) = text.split_once('.').expect("point");
+        let (thousands, units) = int.split_at(int.len() - 3);
+        format!("\"{thousands},{units}.{frac}\"")
+    };
+    write(dir.path(), "messy.csv", &rewrite(&|v| format!("{v:.1}")));
+    let plain = prepare(&Config::load(&cfg).expect("config")).expect("plain");
+    let text = rewrite(&group);
+    assert!(text.contains("\"100,"), "grouped cells: {}", &text[..200]);
+    write(dir.path(), "messy.csv", &text);
+    let grouped = prepare(&Config::load(&cfg).expect("config")).expect("grouped");
+    assert_eq!(grouped.audit.tags, plain.audit.tags);
+    let bits = |d: &regimix_builder::prepare::Prepared| -> Vec<u64> {
+        d.dataset.inputs.iter().map(|v| v.to_bits()).collect()
+    };
+    assert_eq!(bits(&grouped), bits(&plain));
+
+    write(
+        dir.path(),
+        "messy.csv",
+        &rewrite(&|v| group(v.round()).replace(".0\"", "\"")),
+    );
+    let out = regimix(dir.path(), &["check", "c.yaml"]);
+    let text = String::from_utf8_lossy(&out.stdout);
+    assert!(
+        text.contains(
+            "are numbers with a decimal comma: set `data.decimal-mark: \",\"` (if the `,` groups \
+             thousands instead, export the numbers without digit grouping)"
+        ),
+        "{text}"
+    );
+}
+
 /// Lab results under a detection limit (`<0.05`) are counted on their own, not as markers, and
 /// become what `target.lab.below-limit` says: left out, half the limit, or the limit. A `<`
 /// reading in a process tag is bad.

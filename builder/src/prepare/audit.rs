@@ -375,10 +375,21 @@ fn warnings(config: &Config, audit: &Audit, median: Option<i64>) -> Vec<String> 
                 .keys()
                 .find(|t| parse_number(t, !comma).is_some_and(f64::is_finite))
             {
+                let other = if comma { '.' } else { ',' };
+                // `12,345`: a decimal comma, or a comma grouping thousands; the text cannot tell.
+                let grouping = text.matches(other).count() == 1
+                    && text
+                        .rsplit(other)
+                        .next()
+                        .is_some_and(|t| t.len() == 3 && t.bytes().all(|b| b.is_ascii_digit()));
                 out.push(format!(
-                    "{name}: cells like `{text}` are numbers with a decimal {}: set `{key}: \"{}\"`",
+                    "{name}: cells like `{text}` are numbers with a decimal {}: set `{key}: \"{other}\"`{}",
                     if comma { "point" } else { "comma" },
-                    if comma { '.' } else { ',' }
+                    if grouping {
+                        format!(" (if the `{other}` groups thousands instead, export the numbers without digit grouping)")
+                    } else {
+                        String::new()
+                    }
                 ));
             }
         }

@@ -107,22 +107,72 @@ impl RawColumn {
     }
 }
 
-/// A number cell: with `decimal_comma`, its comma is the decimal mark and a point makes it text
-/// (it could be a thousands separator); otherwise as Rust parses `f64` (a point, exponents,
-/// `NaN` and `inf`, which the caller treats as markers).
+/// A number cell: with `decimal_comma` the comma is the decimal mark, otherwise the point
+/// (as Rust parses `f64`: exponents, `NaN` and `inf`, which the caller treats as markers), and
+/// digits grouped in threes ([`grouped_number`]).
 pub fn parse_number(text: &str, decimal_comma: bool) -> Option<f64> {
-    if !decimal_comma {
-        return text.parse().ok();
-    }
-    let bytes = text.as_bytes();
-    let mut buf = [0u8; 64];
-    if bytes.contains(&b'.') || bytes.len() > buf.len() {
+    let plain = if decimal_comma {
+        let bytes = text.as_bytes();
+        let mut buf = [0u8; 64];
+        if bytes.contains(&b'.') || bytes.len() > buf.len() {
+            None
+        } else {
+            for (to, &from) in buf.iter_mut().zip(bytes) {
+                *to = if from == b',' { b'.' } else { from };
+            }
+            std::str::from_utf8(&buf[..bytes.len()])
+                .ok()
+                .and_then(|t| t.parse().ok())
+        }
+    } else {
+        text.parse().ok()
+    };
+    plain.or_else(|| grouped_number(text, decimal_comma))
+}
+
+/// A number whose integer digits are grouped in threes: by a space, a no-break or narrow
+/// no-break space or an apostrophe (`12 345,6`, `12'345.6`; the SI Brochure, 9th edition, 2019,
+/// §5.4.4, groups by a thin space), or by the mark that is not the decimal mark (`12,345.6`,
+/// `12.345,6`). That mark also serves as a decimal mark in other exports, so it is taken as a
+/// group separator only where it cannot be one: before a decimal mark, or twice (`1,234,567`);
+/// `12,345` alone stays text, and `check` suggests the other `decimal-mark`. No exponent.
+pub fn grouped_number(text: &str, decimal_comma: bool) -> Option<f64> {
+    let (mark, other) = if decimal_comma {
+        (',', '.')
+    } else {
+        ('.', ',')
+    };
+    let (sign, body) = match text.strip_prefix('-') {
+        Some(rest) => ("-", rest),
+        None => ("", text.strip_prefix('+').unwrap_or(text)),
+    };
+    let (int, frac) = match body.split_once(mark) {
+        Some((int, frac)) => (int, Some(frac)),
+        None => (body, None),
+    };
+    let separator = int.chars().find(|c| !c.is_ascii_digit())?;
+    if !matches!(separator, ' ' | '\u{a0}' | '\u{202f}' | '\'') && separator != other {
         return None;
     }
-    for (to, &from) in buf.iter_mut().zip(bytes) {
-        *to = if from == b',' { b'.' } else { from };
+    let groups: Vec<&str> = int.split(separator).collect();
+    let (first, rest) = groups.split_first()?;
+    let digits = |g: &str| g.bytes().all(|b| b.is_ascii_digit());
+    if !(1..=3).contains(&first.len())
+        || !digits(first)
+        || rest.iter().any(|g| g.len() != 3 || !digits(g))
+        || frac.is_some_and(|f| f.is_empty() || !digits(f))
+        || (separator == other && frac.is_none() && groups.len() < 3)
+    {
+        return None;
     }
-    std::str::from_utf8(&buf[..bytes.len()]).ok()?.parse().ok()
+    let mut plain = String::with_capacity(text.len());
+    plain.push_str(sign);
+    plain.extend(groups);
+    if let Some(frac) = frac {
+        plain.push('.');
+        plain.push_str(frac);
+    }
+    plain.parse().ok()
 }
 
 /// The limit of a below-limit result: `<` or `<=`, then a positive finite number, spaces
@@ -487,6 +537,34 @@ mod tests {
         names.iter().map(|n| (n.to_string(), "input")).collect()
     }
 
+    /// Grouped digits: spaces and apostrophes always; the other mark only before the decimal
+    /// mark or twice, since `12,345` could be a decimal comma (common practice in regional
+    /// number formats; the space grouping per the SI Brochure, 9th edition, §5.4.4).
+    #[test]
+    fn numbers_with_grouped_digits() {
+        for (text, comma, want) in [
+            ("5,140.0", false, Some(5140.0)),
+            ("-1,234,567", false, Some(-1_234_567.0)),
+            ("+12 345.5", false, Some(12345.5)),
+            ("12\u{a0}345", false, Some(12345.0)),
+            ("12\u{202f}345,25", true, Some(12345.25)),
+            ("1'234'567.5", false, Some(1_234_567.5)),
+            ("5.140,0", true, Some(5140.0)),
+            ("1.234.567", true, Some(1_234_567.0)),
+            ("12,345", false, None), // could be 12.345 with a decimal comma
+            ("12.345", true, None),
+            ("1,23.5", false, None),
+            ("1234,567.5", false, None),
+            ("12 34", false, None),
+            ("1,234.", false, None),
+            ("1,234.5e3", false, None),
+            ("1 234,5", false, None), // a comma is no decimal mark here
+            ("5,140.0", true, None),
+        ] {
+            assert_eq!(parse_number(text, comma), want, "{text} (comma {comma})");
+        }
+    }
+
     #[test]
     fn reads_values_markers_and_blanks() {
         let f = file_with(
@@ -596,9 +674,8 @@ mod tests {
         s.decimal_comma = true;
         let t = read_file(f.path(), &s).expect("reads");
         let v = &t.columns[0].values;
-        assert_eq!((v[0], v[1], v[3]), (2.5, -1.25e-3, 7.0));
-        // A point could be a thousands separator: kept as text, so it shows as a marker.
-        assert_eq!(t.columns[0].kinds[2], Observation::Marker);
+        // `1.234,5`: the point groups thousands (before the decimal comma, it cannot be one).
+        assert_eq!(v, &vec![2.5, -1.25e-3, 1234.5, 7.0]);
         s.decimal_comma = false;
         let t = read_file(f.path(), &s).expect("reads");
         assert_eq!(t.columns[0].markers.get("2,5"), Some(&1));
