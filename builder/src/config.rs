@@ -254,9 +254,9 @@ pub struct RawRuntime {
 pub struct RawData {
     /// CSV files, relative to the config file; read in order, then merged by time.
     pub files: Vec<PathBuf>,
-    /// Name of the timestamp column.
+    /// Timestamp column, or a date column and a time-of-day column.
     #[serde(default = "default_timestamp")]
-    pub timestamp: String,
+    pub timestamp: TimestampColumns,
     /// Field delimiter, one ASCII character.
     #[serde(default = "default_delimiter")]
     pub delimiter: char,
@@ -347,9 +347,9 @@ pub struct RawLab {
     /// Lab CSV files relative to the config; empty means the target column of the data files.
     #[serde(default)]
     pub files: Vec<PathBuf>,
-    /// Timestamp column of the lab files (default: the data files' timestamp name).
+    /// Timestamp column(s) of the lab files (default: the data files' timestamp name).
     #[serde(default)]
-    pub timestamp: Option<String>,
+    pub timestamp: Option<TimestampColumns>,
     /// Field delimiter of the lab files (default: `data.delimiter`); a lab system's export often
     /// differs from the historian's.
     #[serde(default)]
@@ -418,8 +418,48 @@ fn check_offset(
     })
 }
 
-fn default_timestamp() -> String {
-    "timestamp".to_string()
+fn default_timestamp() -> TimestampColumns {
+    TimestampColumns::One("timestamp".to_string())
+}
+
+/// Where each row's time is: one column (`time`), or a date column and a time-of-day column
+/// (`[date, time]`, as lab systems and older exports write them), whose cells are joined with a
+/// space and read as one timestamp.
+#[derive(Debug, Clone, PartialEq, Eq, Deserialize, serde::Serialize)]
+#[serde(
+    untagged,
+    expecting = "a column name, or a list of two: the date column and the time-of-day column"
+)]
+pub enum TimestampColumns {
+    /// One column holds date and time.
+    One(String),
+    /// The date in the first column, the time of day in the second.
+    Split([String; 2]),
+}
+
+impl TimestampColumns {
+    /// The column names, in order.
+    pub fn names(&self) -> &[String] {
+        match self {
+            TimestampColumns::One(name) => std::slice::from_ref(name),
+            TimestampColumns::Split(names) => names,
+        }
+    }
+
+    /// Whether `tag` is one of the timestamp columns.
+    pub fn contains(&self, tag: &str) -> bool {
+        self.names().iter().any(|n| n == tag)
+    }
+}
+
+/// "column `time`" or "columns `date` + `time`", for messages.
+impl std::fmt::Display for TimestampColumns {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self {
+            TimestampColumns::One(name) => write!(f, "column `{name}`"),
+            TimestampColumns::Split([date, time]) => write!(f, "columns `{date}` + `{time}`"),
+        }
+    }
 }
 fn default_delimiter() -> char {
     ','
@@ -451,8 +491,8 @@ pub struct TagSpec {
 pub struct LabSpec {
     /// Lab files (absolute or relative to the working directory); empty: the data files.
     pub files: Vec<PathBuf>,
-    /// Timestamp column of the lab files.
-    pub timestamp: String,
+    /// Timestamp column(s) of the lab files.
+    pub timestamp: TimestampColumns,
     /// Field delimiter byte of the lab files.
     pub delimiter: u8,
     /// Offset applied to the lab files' naive timestamps, minutes east of UTC.
@@ -545,8 +585,8 @@ pub struct Modelling {
 pub struct Config {
     /// Data files.
     pub files: Vec<PathBuf>,
-    /// Timestamp column.
-    pub timestamp: String,
+    /// Timestamp column(s).
+    pub timestamp: TimestampColumns,
     /// Field delimiter byte.
     pub delimiter: u8,
     /// Offset applied to naive timestamps, minutes east of UTC.
@@ -688,7 +728,7 @@ impl RawConfig {
                     format!("`{}` is listed twice", a.tag),
                 ));
             }
-            if a.tag == self.data.timestamp {
+            if self.data.timestamp.contains(&a.tag) {
                 return Err(invalid(
                     &format!("inputs[{i}].tag"),
                     format!("`{}` is the timestamp column", a.tag),
@@ -1135,6 +1175,33 @@ inputs:
     }
 
     #[test]
+    fn timestamp_in_one_column_or_split_into_date_and_time() {
+        let c = load(MINIMAL).expect("valid");
+        assert_eq!(c.timestamp, TimestampColumns::One("time".into()));
+        let split = MINIMAL.replace("  timestamp: time", "  timestamp: [Date, Time]");
+        let c = load(&split).expect("valid");
+        assert_eq!(
+            c.timestamp,
+            TimestampColumns::Split(["Date".into(), "Time".into()])
+        );
+        assert_eq!(c.timestamp.to_string(), "columns `Date` + `Time`");
+        assert!(c.timestamp.contains("Time") && !c.timestamp.contains("TI-1"));
+        let three = MINIMAL.replace("  timestamp: time", "  timestamp: [a, b, c]");
+        let err = load(&three).expect_err("three columns").to_string();
+        assert!(
+            err.contains(
+                "a column name, or a list of two: the date column and the time-of-day column"
+            ),
+            "{err}"
+        );
+        let clash = split.replace("  - tag: TI-1", "  - tag: Time");
+        let err = load(&clash)
+            .expect_err("input is a timestamp column")
+            .to_string();
+        assert!(err.contains("`Time` is the timestamp column"), "{err}");
+    }
+
+    #[test]
     fn unknown_key_names_key_place_and_nearest() {
         let text = MINIMAL.replace("  timestamp: time", "  timestmp: time");
         let err = load(&text).expect_err("typo must fail").to_string();
@@ -1199,7 +1266,7 @@ inputs:
             .expect("valid");
         let lab = ok.target.lab.expect("lab");
         assert_eq!(lab.delay, Span::from_secs(7200));
-        assert_eq!(lab.timestamp, "time");
+        assert_eq!(lab.timestamp, TimestampColumns::One("time".into()));
         assert_eq!(lab.files, vec![PathBuf::from("/plant/lab.csv")]);
     }
 

@@ -70,27 +70,25 @@ pub enum DataError {
         found: usize,
     },
     /// A timestamp cell that does not parse.
-    #[error("{path}:{line}: column `{column}`: {cause}")]
+    #[error("{path}:{line}: {column}: {cause}")]
     Timestamp {
         /// File.
         path: PathBuf,
         /// 1-based line.
         line: u64,
-        /// Timestamp column name.
+        /// The timestamp column(s), as "column `time`".
         column: String,
         /// What was wrong.
         cause: TimestampError,
     },
     /// Time going backwards inside one file.
-    #[error(
-        "{path}:{line}: column `{column}`: time goes backwards ({time} after {previous}); {hint}"
-    )]
+    #[error("{path}:{line}: {column}: time goes backwards ({time} after {previous}); {hint}")]
     NonMonotonic {
         /// File.
         path: PathBuf,
         /// 1-based line.
         line: u64,
-        /// Timestamp column name.
+        /// The timestamp column(s), as "column `time`".
         column: String,
         /// This row's time.
         time: Rfc3339,

@@ -7,6 +7,7 @@ use std::path::Path;
 use regimix_format::{DecodeError, ModelView};
 use regimix_runtime::{state_words, Estimator, Status};
 
+use crate::config::TimestampColumns;
 use crate::error::DataError;
 use crate::prepare::historian::{csv_error, read_file, Observation, RawColumn, ReadSpec};
 use crate::prepare::text::{open_text, windows_1252};
@@ -83,20 +84,20 @@ pub fn replay(
         .collect())
 }
 
-/// Reads a CSV for replay: the timestamp column (default: the first column) and the model's input
+/// Reads a CSV for replay: the timestamp column(s) (default: the first column) and the model's input
 /// tags, one step per row. Quality markers, below-limit readings and blanks become NaN (the
 /// runtime substitutes them).
 pub fn read_inputs(
     path: &Path,
     model: &ModelView<'_>,
-    timestamp: Option<&str>,
+    timestamp: Option<&TimestampColumns>,
     delimiter: u8,
     decimal_comma: bool,
     date_order: DateOrder,
 ) -> Result<(Vec<Micros>, Vec<Vec<f64>>), DataError> {
     let timestamp = match timestamp {
-        Some(t) => t.to_string(),
-        None => first_column(path, delimiter)?,
+        Some(t) => t.clone(),
+        None => TimestampColumns::One(first_column(path, delimiter)?),
     };
     let columns: Vec<(String, &'static str)> = (0..model.n_inputs())
         .map(|j| (model.input_tag(j).to_string(), "model input"))

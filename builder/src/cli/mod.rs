@@ -63,9 +63,10 @@ enum Command {
         /// Write the table here (atomically) instead of to stdout.
         #[arg(long)]
         out: Option<PathBuf>,
-        /// Timestamp column (default: the first column).
-        #[arg(long)]
-        timestamp: Option<String>,
+        /// Timestamp column (default: the first column), or a date column and a time-of-day
+        /// column: `--timestamp date time`.
+        #[arg(long, num_args = 1..=2, value_names = ["COLUMN", "TIME_COLUMN"])]
+        timestamp: Vec<String>,
         /// Field delimiter.
         #[arg(long, default_value_t = ',')]
         delimiter: char,
@@ -116,7 +117,7 @@ pub fn run(cli: Cli) -> anyhow::Result<()> {
             &model,
             &data,
             out.as_deref(),
-            timestamp.as_deref(),
+            timestamp,
             delimiter,
             decimal_mark,
             &date_order,

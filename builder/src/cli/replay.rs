@@ -3,6 +3,7 @@
 use std::path::Path;
 
 use anyhow::Context;
+use regimix_builder::config::TimestampColumns;
 use regimix_builder::output::write_atomic;
 use regimix_builder::replay::{read_inputs, replay, to_csv};
 use regimix_builder::timestamp::DateOrder;
@@ -13,7 +14,7 @@ pub fn run(
     model_path: &Path,
     data: &Path,
     out: Option<&Path>,
-    timestamp: Option<&str>,
+    timestamp: Vec<String>,
     delimiter: char,
     decimal_mark: char,
     date_order: &str,
@@ -34,10 +35,14 @@ pub fn run(
         "mdy" => DateOrder::Mdy,
         _ => DateOrder::Ymd, // clap allows only ymd, dmy, mdy
     };
+    let timestamp = match <[String; 2]>::try_from(timestamp) {
+        Ok(split) => Some(TimestampColumns::Split(split)),
+        Err(one) => one.into_iter().next().map(TimestampColumns::One),
+    };
     let (times, rows) = read_inputs(
         data,
         &model,
-        timestamp,
+        timestamp.as_ref(),
         delimiter as u8,
         decimal_comma,
         date_order,

@@ -15,6 +15,7 @@ use std::path::{Path, PathBuf};
 use serde::Serialize;
 
 use super::text::windows_1252;
+use crate::config::TimestampColumns;
 use crate::error::DataError;
 use crate::suggest::nearest;
 use crate::timestamp::{parse_timestamp, DateOrder, Micros, Rfc3339};
@@ -220,8 +221,8 @@ pub const MAX_LABEL_ROWS: usize = 8;
 pub struct ReadSpec<'a> {
     /// Field delimiter.
     pub delimiter: u8,
-    /// Timestamp column name.
-    pub timestamp: &'a str,
+    /// Timestamp column(s).
+    pub timestamp: &'a TimestampColumns,
     /// Columns to read, with the role used in error messages (`"input"`, `"target"`).
     pub columns: &'a [(String, &'static str)],
     /// Offset of naive timestamps, minutes east of UTC.
@@ -326,7 +327,10 @@ pub fn read_file(path: &Path, spec: &ReadSpec<'_>) -> Result<RawTable, DataError
             }
         })
     };
-    let ts_index = locate(spec.timestamp, "timestamp column")?;
+    let mut ts_index = Vec::with_capacity(2);
+    for name in spec.timestamp.names() {
+        ts_index.push(locate(name, "timestamp column")?);
+    }
     let mut wanted = Vec::with_capacity(spec.columns.len());
     for (name, role) in spec.columns {
         wanted.push(locate(name, role)?);
@@ -359,7 +363,14 @@ pub fn read_file(path: &Path, spec: &ReadSpec<'_>) -> Result<RawTable, DataError
                 found: record.len(),
             });
         }
-        let ts_text = fields.get(&record, ts_index);
+        // A split timestamp's date and time of day, joined by a space.
+        let ts_text = match ts_index[..] {
+            [date, time] => {
+                let (date, time) = (fields.get(&record, date), fields.get(&record, time));
+                Cow::Owned(format!("{} {}", date.trim(), time.trim()))
+            }
+            _ => fields.get(&record, ts_index.first().copied().unwrap_or(0)),
+        };
         if times.is_empty()
             && labels.len() < MAX_LABEL_ROWS
             && !ts_text.bytes().any(|b| b.is_ascii_digit())
@@ -519,7 +530,7 @@ mod tests {
     fn spec<'a>(columns: &'a [(String, &'static str)]) -> ReadSpec<'a> {
         ReadSpec {
             delimiter: b',',
-            timestamp: "time",
+            timestamp: Box::leak(Box::new(TimestampColumns::One("time".into()))),
             columns,
             naive_offset_minutes: 0,
             decimal_comma: false,
@@ -626,6 +637,40 @@ mod tests {
                 .files[0]
                 .windows_1252_fields,
             0
+        );
+    }
+
+    /// A date column and a time-of-day column read as one timestamp; errors name both.
+    #[test]
+    fn split_date_and_time_columns() {
+        let c = cols(&["TI-1"]);
+        let split = TimestampColumns::Split(["Date".into(), "Time".into()]);
+        let mut s = spec(&c);
+        s.timestamp = &split;
+        s.date_order = DateOrder::Dmy;
+        let f = file_with(
+            b"Date,TI-1,Time\nDatum,,Zeit\n01.03.2026,1.5,23:59\n02.03.2026,1.6, 00:00:30 \n",
+        );
+        let t = read_file(f.path(), &s).expect("reads");
+        let one = |text: &str| parse_timestamp(text, 0, DateOrder::Ymd).expect("time");
+        assert_eq!(
+            t.times,
+            vec![one("2026-03-01 23:59:00"), one("2026-03-02 00:00:30")]
+        );
+        assert_eq!(t.files[0].label_rows, vec!["Datum Zeit"]);
+        let f = file_with(b"Date,TI-1,Time\n01.03.2026,1.5,25:00\n");
+        let err = read_file(f.path(), &s).expect_err("bad hour").to_string();
+        assert!(
+            err.contains(":2: columns `Date` + `Time`: `01.03.2026 25:00`"),
+            "{err}"
+        );
+        let f = file_with(b"Date,TI-1\n01.03.2026,1.5\n");
+        let err = read_file(f.path(), &s)
+            .expect_err("no time column")
+            .to_string();
+        assert!(
+            err.contains("no column `Time` (the timestamp column)"),
+            "{err}"
         );
     }
 

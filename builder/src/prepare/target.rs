@@ -167,6 +167,7 @@ pub fn apply_transform(
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::config::TimestampColumns;
 
     fn valid(values: &[f64]) -> GridSeries {
         GridSeries {
@@ -231,7 +232,7 @@ mod tests {
         std::fs::write(&path, "drawn;XA-1\n02.03.2026 09:15:00;0.42\n").expect("write");
         let lab = LabSpec {
             files: vec![path],
-            timestamp: "drawn".into(),
+            timestamp: TimestampColumns::One("drawn".into()),
             delimiter: b';',
             naive_offset_minutes: 60,
             decimal_comma: false,
