@@ -251,10 +251,12 @@ impl Problem<'_> {
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
 pub enum SelectionError {
     /// Not enough usable rows.
-    #[error("only {rows} rows have the target and every candidate regressor valid; need at least {needed}")]
+    #[error("only {rows} rows have the target and every candidate regressor valid; {regimes} regimes need at least {needed} (20 plus 6 per regime): add target data (more lab results, a longer period){}", if *regimes > 2 { ", or set fewer regimes (`regimes.count`)" } else { "" })]
     TooFewRows {
         /// Usable rows.
         rows: usize,
+        /// Regimes to fit.
+        regimes: usize,
         /// Needed.
         needed: usize,
     },
@@ -291,6 +293,7 @@ pub fn select(
     if usable.len() < needed {
         return Err(SelectionError::TooFewRows {
             rows: usable.len(),
+            regimes: weights.len(),
             needed,
         });
     }
@@ -469,5 +472,32 @@ mod tests {
                 Term::Input { input: 0, lag: 3 }
             ]
         );
+    }
+
+    /// Too few target rows: the message names the count and what helps (fewer regimes only
+    /// while more than the smallest count, 2, are asked for).
+    #[test]
+    fn too_few_target_rows_say_what_helps() {
+        let params = StructureParams::new(vec![2], 0);
+        let n = 40;
+        let inputs = vec![(0..n).map(|k| k as f64).collect::<Vec<_>>()];
+        let target: Vec<f64> = (0..n)
+            .map(|k| if k % 2 == 0 { k as f64 } else { f64::NAN })
+            .collect();
+        for (c, fewer) in [(2, false), (3, true)] {
+            let weights = vec![vec![1.0 / c as f64; n]; c];
+            let err = select(&params, &weights, &inputs, &target).expect_err("too few");
+            assert_eq!(
+                err,
+                SelectionError::TooFewRows {
+                    rows: 19,
+                    regimes: c,
+                    needed: 20 + 6 * c
+                }
+            );
+            let text = err.to_string();
+            assert!(text.contains("add target data"), "{text}");
+            assert_eq!(text.contains("set fewer regimes"), fewer, "{text}");
+        }
     }
 }
