@@ -4,6 +4,8 @@
 //! - RFC 3339 / ISO 8601 date-times: `2026-03-01T08:15:00Z`, `2026-03-01T08:15:00.25+01:00`,
 //!   lower-case `t`/`z`, a space instead of `T`, offsets as `+hh:mm` or `+hhmm`;
 //! - the same without an offset (`2026-03-01 08:15:00`): the configured offset for naive times applies;
+//! - year-first dates with `/` or `.` (`2026/03/01 08:15`, `2026.3.1`), one or two digits for
+//!   month and day;
 //! - a date alone (`2026-03-01`): midnight;
 //! - epoch time, with or without a fraction: seconds (`1772352900`, `1772352900.5`), or
 //!   milliseconds, microseconds or nanoseconds told apart by size (`1772352900500`);
@@ -214,18 +216,34 @@ pub fn parse_timestamp(
             .iter()
             .enumerate()
             .all(|(i, &b)| b.is_ascii_digit() || b == b'.' || (i == 0 && b == b'-'));
-        if looks_epoch && bytes.get(4) != Some(&b'-') {
+        // `2026.03.02` is a date, `1772.5` epoch seconds: a date has its separator twice.
+        let separator = bytes
+            .get(4)
+            .copied()
+            .filter(|b| matches!(b, b'-' | b'/' | b'.'));
+        let date_like = separator.is_some_and(|s| bytes.iter().filter(|&&b| b == s).count() >= 2);
+        if looks_epoch && !date_like && separator != Some(b'-') {
             return parse_epoch(trimmed);
         }
         let year = c.digits(4).ok_or_else(|| fail(text, "bad year"))? as i64;
-        if !c.eat(b'-') {
+        // ISO 8601 writes `-` and two-digit fields; `/` and `.` (as East Asian and some
+        // historian exports write year-first dates) allow one digit.
+        let separator = separator.unwrap_or(b'-');
+        if !c.eat(separator) {
             return Err(fail(text, "expected `-` after the year"));
         }
-        let month = c.digits(2).ok_or_else(|| fail(text, "bad month"))?;
-        if !c.eat(b'-') {
-            return Err(fail(text, "expected `-` after the month"));
+        let field = |c: &mut Cursor<'_>| {
+            if separator == b'-' {
+                c.digits(2)
+            } else {
+                c.some_digits(2)
+            }
+        };
+        let month = field(&mut c).ok_or_else(|| fail(text, "bad month"))?;
+        if !c.eat(separator) {
+            return Err(fail(text, "expected the same separator after the month"));
         }
-        let day = c.digits(2).ok_or_else(|| fail(text, "bad day"))?;
+        let day = field(&mut c).ok_or_else(|| fail(text, "bad day"))?;
         (year, month, day)
     };
     if !(1..=12).contains(&month) {
@@ -471,6 +489,14 @@ mod tests {
         assert_eq!(utc("-1.0000005"), -1_000_001);
         assert!(parse_timestamp("10000000000000000000", 0, DateOrder::Ymd).is_err());
         assert_eq!(utc("2026-03-01"), utc("2026-03-01T00:00:00Z"));
+        // Year first with `/` or `.`, one-digit fields allowed there; `1772.5` stays epoch time.
+        assert_eq!(utc("2026/03/01 08:15:00"), t);
+        assert_eq!(utc("2026/3/1 8:15"), t);
+        assert_eq!(utc("2026.03.01 08:15"), t);
+        assert_eq!(utc("2026.03.01"), utc("2026-03-01"));
+        assert_eq!(utc("1772.5"), 1_772_500_000);
+        assert!(parse_timestamp("2026/03-01 08:15", 0, DateOrder::Ymd).is_err());
+        assert!(parse_timestamp("2026-3-01 08:15", 0, DateOrder::Ymd).is_err());
     }
 
     #[test]

@@ -343,11 +343,19 @@ pub fn read_file(path: &Path, spec: &ReadSpec<'_>) -> Result<RawTable, DataError
     let mut times = Vec::new();
     let mut labels = Vec::new();
     let mut previous: Option<Micros> = None;
+    let mut previous_line = 1;
     while reader
         .read_byte_record(&mut record)
         .map_err(|e| csv_error(path, e))?
     {
-        let line = record.position().map(|p| p.line()).unwrap_or(0);
+        // The reader reports the first record after the header as on the header's line (it
+        // takes the header's line end in with the next record): a record starts at least one
+        // line after the one before it.
+        let line = record
+            .position()
+            .map_or(0, |p| p.line())
+            .max(previous_line + 1);
+        previous_line = line;
         if record.len() == 1
             && record
                 .get(0)
@@ -739,6 +747,14 @@ mod tests {
             (
                 b"time,TI-1\n2026-03-01 00:00:00,1\nyesterday,2\n",
                 ":3: column `time`: `yesterday` is not a timestamp",
+            ),
+            (
+                b"time,TI-1\n03-2026-01 00:00:00,1\n",
+                ":2: column `time`: `03-2026-01 00:00:00` is not a timestamp",
+            ),
+            (
+                b"time,TI-1\r\n03-2026-01 00:00:00,1\r\n",
+                ":2: column `time`",
             ),
             (
                 b"time,TI-1\n2026-03-01 03:00:00,1\n2026-03-01 00:00:00,2\n",
