@@ -307,7 +307,20 @@ pub fn read_file(path: &Path, spec: &ReadSpec<'_>) -> Result<RawTable, DataError
     let locate = |name: &str, role: &'static str| -> Result<usize, DataError> {
         header.iter().position(|h| h == name).ok_or_else(|| {
             let close = nearest(name, header.iter().map(String::as_str), 3);
-            let hint = if close.is_empty() {
+            // One header field holding another common delimiter: the wrong `delimiter`.
+            let other_delimiter = match &header[..] {
+                [only] => [(';', ";"), ('\t', "\\t"), ('|', "|"), (',', ",")]
+                    .into_iter()
+                    .find(|&(d, _)| d as u32 != u32::from(spec.delimiter) && only.contains(d)),
+                _ => None,
+            };
+            let hint = if let Some((_, written)) = other_delimiter {
+                format!(
+                    "; the header is one field, `{}`: its fields look separated by `{written}`, so \
+                     set `delimiter: \"{written}\"`",
+                    header.first().map(String::as_str).unwrap_or("")
+                )
+            } else if close.is_empty() {
                 format!("; the header has: {}", shorten_list(&header))
             } else {
                 format!(
@@ -743,6 +756,15 @@ mod tests {
             (
                 b"time,TI-1\n2026-03-01 00:00:00,1\n2026-03-01 00:01:00,1,2\n",
                 ":3: row has 3 fields but the header has 2",
+            ),
+            (
+                b"time;TI-1\n2026-03-01 00:00:00;1\n",
+                ":1: no column `time` (the timestamp column); the header is one field, \
+                 `time;TI-1`: its fields look separated by `;`, so set `delimiter: \";\"`",
+            ),
+            (
+                b"time\tTI-1\n2026-03-01 00:00:00\t1\n",
+                "separated by `\\t`, so set `delimiter: \"\\t\"`",
             ),
             (
                 b"time,TI-1\n2026-03-01 00:00:00,1\nyesterday,2\n",
