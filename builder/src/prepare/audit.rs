@@ -534,6 +534,10 @@ impl fmt::Display for Audit {
                     labels.join(", ")
                 )?;
             }
+            if !file.absent.is_empty() {
+                let names: Vec<String> = file.absent.iter().map(|n| format!("`{n}`")).collect();
+                write!(f, "; without {} (other files hold them)", names.join(", "))?;
+            }
             if file.windows_1252_fields > 0 {
                 write!(
                     f,

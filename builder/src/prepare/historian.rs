@@ -209,6 +209,8 @@ pub struct FileRead {
     pub label_rows: Vec<String>,
     /// Fields that were not UTF-8 and were read as Windows-1252 ([`windows_1252`]).
     pub windows_1252_fields: u64,
+    /// Requested columns this file does not hold (others hold them; see [`read_files`]).
+    pub absent: Vec<String>,
 }
 
 /// Most rows under a header that may be labels (tag descriptions, units, ranges, as many
@@ -270,8 +272,19 @@ impl FieldText {
     }
 }
 
-/// Reads one file, streaming, keeping only the timestamp and the requested columns.
+/// Reads one file, streaming, keeping only the timestamp and the requested columns; every
+/// requested column must be in it.
 pub fn read_file(path: &Path, spec: &ReadSpec<'_>) -> Result<RawTable, DataError> {
+    read_one(path, spec, true).map(|(table, _)| table)
+}
+
+/// Reads one file; with `every_column` false, a requested column the file lacks reads as empty
+/// cells and is listed in [`FileRead::absent`]. Returns the table and the header.
+fn read_one(
+    path: &Path,
+    spec: &ReadSpec<'_>,
+    every_column: bool,
+) -> Result<(RawTable, Vec<String>), DataError> {
     let file = super::text::open_text(path).map_err(|cause| DataError::Read {
         path: path.to_path_buf(),
         cause,
@@ -305,48 +318,24 @@ pub fn read_file(path: &Path, spec: &ReadSpec<'_>) -> Result<RawTable, DataError
         header.push(name.to_string());
     }
     let locate = |name: &str, role: &'static str| -> Result<usize, DataError> {
-        header.iter().position(|h| h == name).ok_or_else(|| {
-            let close = nearest(name, header.iter().map(String::as_str), 3);
-            // One header field holding another common delimiter: the wrong `delimiter`.
-            let other_delimiter = match &header[..] {
-                [only] => [(';', ";"), ('\t', "\\t"), ('|', "|"), (',', ",")]
-                    .into_iter()
-                    .find(|&(d, _)| d as u32 != u32::from(spec.delimiter) && only.contains(d)),
-                _ => None,
-            };
-            let hint = if let Some((_, written)) = other_delimiter {
-                format!(
-                    "; the header is one field, `{}`: its fields look separated by `{written}`, so \
-                     set `delimiter: \"{written}\"`",
-                    header.first().map(String::as_str).unwrap_or("")
-                )
-            } else if close.is_empty() {
-                format!("; the header has: {}", shorten_list(&header))
-            } else {
-                format!(
-                    "; did you mean {}?",
-                    close
-                        .iter()
-                        .map(|c| format!("`{c}`"))
-                        .collect::<Vec<_>>()
-                        .join(", ")
-                )
-            };
-            DataError::MissingColumn {
-                path: path.to_path_buf(),
-                column: name.to_string(),
-                role,
-                hint,
-            }
-        })
+        header
+            .iter()
+            .position(|h| h == name)
+            .ok_or_else(|| missing_column(path, &header, name, role, spec.delimiter))
     };
     let mut ts_index = Vec::with_capacity(2);
     for name in spec.timestamp.names() {
         ts_index.push(locate(name, "timestamp column")?);
     }
     let mut wanted = Vec::with_capacity(spec.columns.len());
+    let mut absent = Vec::new();
     for (name, role) in spec.columns {
-        wanted.push(locate(name, role)?);
+        if every_column || header.contains(name) {
+            wanted.push(Some(locate(name, role)?));
+        } else {
+            wanted.push(None);
+            absent.push(name.clone());
+        }
     }
     let mut columns: Vec<RawColumn> = spec
         .columns
@@ -422,7 +411,10 @@ pub fn read_file(path: &Path, spec: &ReadSpec<'_>) -> Result<RawTable, DataError
         previous = Some(time);
         times.push(time);
         for (column, &index) in columns.iter_mut().zip(&wanted) {
-            column.push_cell(&fields.get(&record, index), spec.decimal_comma);
+            match index {
+                Some(index) => column.push_cell(&fields.get(&record, index), spec.decimal_comma),
+                None => column.push_cell("", spec.decimal_comma),
+            }
         }
     }
     if times.is_empty() {
@@ -431,7 +423,7 @@ pub fn read_file(path: &Path, spec: &ReadSpec<'_>) -> Result<RawTable, DataError
         });
     }
     let rows = times.len();
-    Ok(RawTable {
+    let table = RawTable {
         times,
         columns,
         files: vec![FileRead {
@@ -439,9 +431,54 @@ pub fn read_file(path: &Path, spec: &ReadSpec<'_>) -> Result<RawTable, DataError
             rows,
             label_rows: labels,
             windows_1252_fields: fields.legacy,
+            absent,
         }],
         duplicate_rows: 0,
-    })
+    };
+    Ok((table, header))
+}
+
+/// The error for a column not in `header`, with what probably went wrong: another delimiter, a
+/// near miss, or the header's names.
+fn missing_column(
+    path: &Path,
+    header: &[String],
+    name: &str,
+    role: &'static str,
+    delimiter: u8,
+) -> DataError {
+    let close = nearest(name, header.iter().map(String::as_str), 3);
+    // One header field holding another common delimiter: the wrong `delimiter`.
+    let other_delimiter = match header {
+        [only] => [(';', ";"), ('\t', "\\t"), ('|', "|"), (',', ",")]
+            .into_iter()
+            .find(|&(d, _)| d as u32 != u32::from(delimiter) && only.contains(d)),
+        _ => None,
+    };
+    let hint = if let Some((_, written)) = other_delimiter {
+        format!(
+            "; the header is one field, `{}`: its fields look separated by `{written}`, so \
+             set `delimiter: \"{written}\"`",
+            header.first().map(String::as_str).unwrap_or("")
+        )
+    } else if close.is_empty() {
+        format!("; the header has: {}", shorten_list(header))
+    } else {
+        format!(
+            "; did you mean {}?",
+            close
+                .iter()
+                .map(|c| format!("`{c}`"))
+                .collect::<Vec<_>>()
+                .join(", ")
+        )
+    };
+    DataError::MissingColumn {
+        path: path.to_path_buf(),
+        column: name.to_string(),
+        role,
+        hint,
+    }
 }
 
 fn shorten_list(names: &[String]) -> String {
@@ -452,11 +489,24 @@ fn shorten_list(names: &[String]) -> String {
     out.join(", ")
 }
 
-/// Reads every file and merges them into one table sorted by time.
+/// Reads every file and merges them into one table sorted by time. A file may hold only some of
+/// the requested columns (historians often export one file per group of tags); each column must
+/// be in at least one file, else the error names the first file and its header.
 pub fn read_files(paths: &[PathBuf], spec: &ReadSpec<'_>) -> Result<RawTable, DataError> {
     let mut tables = Vec::with_capacity(paths.len());
+    let mut first_header = None;
     for path in paths {
-        tables.push(read_file(path, spec)?);
+        let (table, header) = read_one(path, spec, false)?;
+        first_header.get_or_insert((path, header));
+        tables.push(table);
+    }
+    for (name, role) in spec.columns {
+        let everywhere_absent = tables
+            .iter()
+            .all(|t| t.files.iter().all(|f| f.absent.contains(name)));
+        if let (true, Some((path, header))) = (everywhere_absent, &first_header) {
+            return Err(missing_column(path, header, name, role, spec.delimiter));
+        }
     }
     Ok(merge(tables))
 }
@@ -466,7 +516,7 @@ pub fn read_files(paths: &[PathBuf], spec: &ReadSpec<'_>) -> Result<RawTable, Da
 /// **Duplicate timestamps.** Rows with equal times (within a file, or across files) collapse into
 /// one row. For each tag the last *value* wins, taking rows in file order then line order; if no
 /// row has a value, the last marker wins (so a `Bad` is kept as bad); if all are empty, the cell
-/// is empty. The number of collapsed rows is reported by `check`.
+/// is empty. `check` reports the rows that repeated a time for a tag their file holds.
 pub fn merge(mut tables: Vec<RawTable>) -> RawTable {
     let Some(first) = tables.first_mut() else {
         return RawTable {
@@ -476,6 +526,15 @@ pub fn merge(mut tables: Vec<RawTable>) -> RawTable {
             duplicate_rows: 0,
         };
     };
+    // Per table, which columns its file holds; per row, its table.
+    let holds = |t: &RawTable| -> Vec<bool> {
+        t.columns
+            .iter()
+            .map(|c| !t.files.iter().any(|f| f.absent.contains(&c.name)))
+            .collect()
+    };
+    let mut present = vec![holds(first)];
+    let mut sources = vec![0u32; first.times.len()];
     let mut out = RawTable {
         times: std::mem::take(&mut first.times),
         columns: std::mem::take(&mut first.columns),
@@ -483,6 +542,8 @@ pub fn merge(mut tables: Vec<RawTable>) -> RawTable {
         duplicate_rows: 0,
     };
     for table in tables.into_iter().skip(1) {
+        sources.extend(std::iter::repeat_n(present.len() as u32, table.times.len()));
+        present.push(holds(&table));
         out.times.extend_from_slice(&table.times);
         out.files.extend(table.files);
         for (dst, src) in out.columns.iter_mut().zip(table.columns) {
@@ -497,16 +558,21 @@ pub fn merge(mut tables: Vec<RawTable>) -> RawTable {
         let mut order: Vec<u32> = (0..out.times.len() as u32).collect();
         order.sort_by_key(|&i| out.times[i as usize]); // stable: file order kept for equal times
         out.times = order.iter().map(|&i| out.times[i as usize]).collect();
+        sources = order.iter().map(|&i| sources[i as usize]).collect();
         for column in &mut out.columns {
             column.values = order.iter().map(|&i| column.values[i as usize]).collect();
             column.kinds = order.iter().map(|&i| column.kinds[i as usize]).collect();
         }
     }
-    collapse_duplicates(&mut out);
+    collapse_duplicates(&mut out, &sources, &present);
     out
 }
 
-fn collapse_duplicates(table: &mut RawTable) {
+/// Collapses rows of equal time (see [`merge`]). `sources[k]` is row `k`'s table and
+/// `present[t][c]` whether table `t`'s file holds column `c`: rows count as duplicates only
+/// where they repeat a time for a column (two files holding different tags at the same times
+/// are one row each, not duplicates).
+fn collapse_duplicates(table: &mut RawTable, sources: &[u32], present: &[Vec<bool>]) {
     if table.times.windows(2).all(|w| w[0] < w[1]) {
         return;
     }
@@ -532,7 +598,23 @@ fn collapse_duplicates(table: &mut RawTable) {
             column.values[write] = column.values[pick];
             column.kinds[write] = column.kinds[pick];
         }
-        table.duplicate_rows += end - read - 1;
+        let holders = |c: usize| {
+            (read..end)
+                .filter(|&k| {
+                    let source = sources.get(k).map_or(0, |&t| t as usize);
+                    present
+                        .get(source)
+                        .and_then(|p| p.get(c))
+                        .copied()
+                        .unwrap_or(true)
+                })
+                .count()
+        };
+        let repeats = (0..table.columns.len())
+            .map(holders)
+            .max()
+            .unwrap_or(end - read);
+        table.duplicate_rows += repeats.saturating_sub(1);
         write += 1;
         read = end;
     }
@@ -826,6 +908,38 @@ mod tests {
         assert_eq!(t.columns[0].values, vec![1.0, 2.0, 30.0, 4.0]);
         assert_eq!(t.duplicate_rows, 2);
         assert_eq!(t.files.len(), 2);
+    }
+
+    /// Tags split over files (one export per tag group) merge into one row per time, not
+    /// duplicates; a tag in no file is an error naming the first file, with a suggestion.
+    #[test]
+    fn tags_split_over_files_merge_by_time() {
+        let a = file_with(b"time,TI-1\n2026-03-01 00:00:00,1\n2026-03-01 00:01:00,2\n");
+        let b = file_with(
+            b"time,FI-1,TI-1x\n2026-03-01 00:00:00,10,0\n2026-03-01 00:01:00,20,0\n2026-03-01 00:01:00,21,0\n",
+        );
+        let paths = [a.path().to_path_buf(), b.path().to_path_buf()];
+        let c = cols(&["TI-1", "FI-1"]);
+        let t = read_files(&paths, &spec(&c)).expect("merge");
+        assert_eq!(t.times.len(), 2);
+        assert_eq!(t.columns[0].values, vec![1.0, 2.0]);
+        assert_eq!(t.columns[1].values, vec![10.0, 21.0]);
+        // Only file b repeats a time for a tag it holds.
+        assert_eq!(t.duplicate_rows, 1);
+        assert_eq!(t.files[0].absent, vec!["FI-1"]);
+        assert_eq!(t.files[1].absent, vec!["TI-1"]);
+        let c = cols(&["TI-1", "FI-2"]);
+        let err = read_files(&paths, &spec(&c))
+            .expect_err("FI-2 nowhere")
+            .to_string();
+        assert!(err.contains(":1: no column `FI-2` (the input)"), "{err}");
+        assert!(err.starts_with(&a.path().display().to_string()), "{err}");
+        // One file alone must hold every column.
+        let err = read_file(b.path(), &spec(&cols(&["TI-1"]))).expect_err("strict");
+        assert!(
+            err.to_string().contains("did you mean `FI-1`, `TI-1x`?"),
+            "{err}"
+        );
     }
 
     #[test]
