@@ -38,10 +38,12 @@ pub enum DataError {
         path: PathBuf,
     },
     /// A column the config names is not in the header.
-    #[error("{path}:1: no column `{column}` (the {role}){hint}")]
+    #[error("{path}:{line}: no column `{column}` (the {role}){hint}")]
     MissingColumn {
         /// File.
         path: PathBuf,
+        /// Line of the header (1, or 2 under a `sep=` line).
+        line: u64,
         /// Name from the config.
         column: String,
         /// What the config uses it for.
@@ -50,10 +52,12 @@ pub enum DataError {
         hint: String,
     },
     /// The same column name twice in one header.
-    #[error("{path}:1: column `{column}` appears twice in the header")]
+    #[error("{path}:{line}: column `{column}` appears twice in the header")]
     DuplicateColumn {
         /// File.
         path: PathBuf,
+        /// Line of the header.
+        line: u64,
         /// Column name.
         column: String,
     },

@@ -9,8 +9,8 @@ use regimix_runtime::{state_words, Estimator, Status};
 
 use crate::config::TimestampColumns;
 use crate::error::DataError;
-use crate::prepare::historian::{csv_error, read_file, Observation, RawColumn, ReadSpec};
-use crate::prepare::text::{open_text, windows_1252};
+use crate::prepare::historian::{csv_error, open_csv, read_file, Observation, RawColumn, ReadSpec};
+use crate::prepare::text::windows_1252;
 use crate::timestamp::{DateOrder, Micros, Rfc3339};
 
 /// One replayed sample.
@@ -123,15 +123,7 @@ pub fn read_inputs(
 }
 
 fn first_column(path: &Path, delimiter: u8) -> Result<String, DataError> {
-    let file = open_text(path).map_err(|cause| DataError::Read {
-        path: path.to_path_buf(),
-        cause,
-    })?;
-    let mut reader = csv::ReaderBuilder::new()
-        .delimiter(delimiter)
-        .has_headers(false)
-        .flexible(true)
-        .from_reader(file);
+    let mut reader = open_csv(path, delimiter)?.reader;
     let mut record = csv::ByteRecord::new();
     match reader.read_byte_record(&mut record) {
         Ok(true) => {

@@ -9,7 +9,7 @@
 
 use std::borrow::Cow;
 use std::collections::BTreeMap;
-use std::io::BufReader;
+use std::io::Read;
 use std::path::{Path, PathBuf};
 
 use serde::Serialize;
@@ -278,28 +278,118 @@ pub fn read_file(path: &Path, spec: &ReadSpec<'_>) -> Result<RawTable, DataError
     read_one(path, spec, true).map(|(table, _)| table)
 }
 
+/// A file's header as read.
+struct Header {
+    /// Column names.
+    names: Vec<String>,
+    /// Lines above the header (a `sep=` line).
+    above: u64,
+    /// The delimiter the file was read with.
+    delimiter: u8,
+}
+
+/// A first line `sep=;`, as spreadsheet programs write it to declare the delimiter (after a
+/// UTF-8 byte-order mark, if any), at the start of `head`: the delimiter and the bytes to skip.
+fn declared_delimiter(head: &[u8]) -> Option<(u8, usize)> {
+    let bom = if head.starts_with(b"\xef\xbb\xbf") {
+        3
+    } else {
+        0
+    };
+    let line = head.get(bom..)?;
+    if !line.get(..4)?.eq_ignore_ascii_case(b"sep=") {
+        return None;
+    }
+    let (delimiter, end) = match line.get(4..)? {
+        [d, b'\r', b'\n', ..] => (*d, 7),
+        [d, b'\n', ..] | [d, b'\r', ..] => (*d, 6),
+        [d] => (*d, 5),
+        _ => return None,
+    };
+    (delimiter.is_ascii() && !delimiter.is_ascii_alphanumeric()).then_some((delimiter, bom + end))
+}
+
+/// The first bytes of `input` (fewer only at its end).
+fn first_bytes(input: &mut impl Read, head: &mut [u8]) -> std::io::Result<usize> {
+    let mut got = 0;
+    while got < head.len() {
+        match input.read(&mut head[got..]) {
+            Ok(0) => break,
+            Ok(n) => got += n,
+            Err(e) if e.kind() == std::io::ErrorKind::Interrupted => {}
+            Err(e) => return Err(e),
+        }
+    }
+    Ok(got)
+}
+
+/// A CSV reader positioned on a file's header.
+pub struct Opened {
+    /// The reader (no header handling: the first record is the header).
+    pub reader: csv::Reader<Box<dyn Read>>,
+    /// Lines above the header (a `sep=` line).
+    pub above: u64,
+    /// The delimiter in use: the file's own `sep=` declaration, else the configured one.
+    pub delimiter: u8,
+}
+
+/// Opens a text export as CSV ([`super::text::open_text`]): a `sep=` first line is consumed and
+/// overrides `delimiter`.
+pub fn open_csv(path: &Path, delimiter: u8) -> Result<Opened, DataError> {
+    let read_error = |cause| DataError::Read {
+        path: path.to_path_buf(),
+        cause,
+    };
+    let mut file = super::text::open_text(path).map_err(read_error)?;
+    // Enough for a byte-order mark and `sep=;` with its line end.
+    let mut head = [0u8; 16];
+    let got = first_bytes(&mut file, &mut head).map_err(read_error)?;
+    let (declared, skip) = match declared_delimiter(&head[..got]) {
+        Some((delimiter, skip)) => (Some(delimiter), skip),
+        None => (None, 0),
+    };
+    let rest = head.get(skip..got).unwrap_or(&[]).to_vec();
+    let input: Box<dyn Read> = Box::new(std::io::Cursor::new(rest).chain(file));
+    let delimiter = declared.unwrap_or(delimiter);
+    let reader = csv::ReaderBuilder::new()
+        .delimiter(delimiter)
+        .has_headers(false)
+        .flexible(true)
+        .buffer_capacity(1 << 16)
+        .from_reader(input);
+    Ok(Opened {
+        reader,
+        above: u64::from(declared.is_some()),
+        delimiter,
+    })
+}
+
 /// Reads one file; with `every_column` false, a requested column the file lacks reads as empty
 /// cells and is listed in [`FileRead::absent`]. Returns the table and the header.
 fn read_one(
     path: &Path,
     spec: &ReadSpec<'_>,
     every_column: bool,
-) -> Result<(RawTable, Vec<String>), DataError> {
-    let file = super::text::open_text(path).map_err(|cause| DataError::Read {
-        path: path.to_path_buf(),
-        cause,
-    })?;
-    let mut reader = csv::ReaderBuilder::new()
-        .delimiter(spec.delimiter)
-        .has_headers(false)
-        .flexible(true)
-        .buffer_capacity(1 << 16)
-        .from_reader(BufReader::with_capacity(1 << 16, file));
+) -> Result<(RawTable, Header), DataError> {
+    let Opened {
+        mut reader,
+        above: skipped,
+        delimiter,
+    } = open_csv(path, spec.delimiter)?;
+    let csv_error = |e: csv::Error| match csv_error(path, e) {
+        DataError::Csv {
+            path,
+            line,
+            message,
+        } => DataError::Csv {
+            path,
+            line: line + skipped,
+            message,
+        },
+        other => other,
+    };
     let mut record = csv::ByteRecord::new();
-    if !reader
-        .read_byte_record(&mut record)
-        .map_err(|e| csv_error(path, e))?
-    {
+    if !reader.read_byte_record(&mut record).map_err(csv_error)? {
         return Err(DataError::Empty {
             path: path.to_path_buf(),
         });
@@ -312,6 +402,7 @@ fn read_one(
         if header.iter().any(|h: &String| h == name) && !name.is_empty() {
             return Err(DataError::DuplicateColumn {
                 path: path.to_path_buf(),
+                line: 1 + skipped,
                 column: name.to_string(),
             });
         }
@@ -321,7 +412,7 @@ fn read_one(
         header
             .iter()
             .position(|h| h == name)
-            .ok_or_else(|| missing_column(path, &header, name, role, spec.delimiter))
+            .ok_or_else(|| missing_column(path, 1 + skipped, &header, name, role, delimiter))
     };
     let mut ts_index = Vec::with_capacity(2);
     for name in spec.timestamp.names() {
@@ -345,18 +436,12 @@ fn read_one(
     let mut times = Vec::new();
     let mut labels = Vec::new();
     let mut previous: Option<Micros> = None;
-    let mut previous_line = 1;
-    while reader
-        .read_byte_record(&mut record)
-        .map_err(|e| csv_error(path, e))?
-    {
+    let mut previous_line = 1 + skipped;
+    while reader.read_byte_record(&mut record).map_err(csv_error)? {
         // The reader reports the first record after the header as on the header's line (it
         // takes the header's line end in with the next record): a record starts at least one
         // line after the one before it.
-        let line = record
-            .position()
-            .map_or(0, |p| p.line())
-            .max(previous_line + 1);
+        let line = (record.position().map_or(0, |p| p.line()) + skipped).max(previous_line + 1);
         previous_line = line;
         if record.len() == 1
             && record
@@ -435,6 +520,11 @@ fn read_one(
         }],
         duplicate_rows: 0,
     };
+    let header = Header {
+        names: header,
+        above: skipped,
+        delimiter,
+    };
     Ok((table, header))
 }
 
@@ -442,6 +532,7 @@ fn read_one(
 /// near miss, or the header's names.
 fn missing_column(
     path: &Path,
+    line: u64,
     header: &[String],
     name: &str,
     role: &'static str,
@@ -475,6 +566,7 @@ fn missing_column(
     };
     DataError::MissingColumn {
         path: path.to_path_buf(),
+        line,
         column: name.to_string(),
         role,
         hint,
@@ -505,7 +597,15 @@ pub fn read_files(paths: &[PathBuf], spec: &ReadSpec<'_>) -> Result<RawTable, Da
             .iter()
             .all(|t| t.files.iter().all(|f| f.absent.contains(name)));
         if let (true, Some((path, header))) = (everywhere_absent, &first_header) {
-            return Err(missing_column(path, header, name, role, spec.delimiter));
+            let line = 1 + header.above;
+            return Err(missing_column(
+                path,
+                line,
+                &header.names,
+                name,
+                role,
+                header.delimiter,
+            ));
         }
     }
     Ok(merge(tables))
@@ -908,6 +1008,32 @@ mod tests {
         assert_eq!(t.columns[0].values, vec![1.0, 2.0, 30.0, 4.0]);
         assert_eq!(t.duplicate_rows, 2);
         assert_eq!(t.files.len(), 2);
+    }
+
+    /// A first line `sep=;` (as spreadsheet programs write it) sets the delimiter and is not the
+    /// header; messages keep the file's own line numbers.
+    #[test]
+    fn a_sep_line_declares_the_delimiter() {
+        let c = cols(&["TI-1"]);
+        let f = file_with(
+            b"\xef\xbb\xbfsep=;\r\ntime;TI-1\r\n2026-03-01 00:00:00;1\r\n2026-03-01 00:01:00;2\r\n",
+        );
+        let t = read_file(f.path(), &spec(&c)).expect("reads");
+        assert_eq!(t.columns[0].values, vec![1.0, 2.0]);
+        let f = file_with(b"SEP=;\ntime;TI-1\n2026-03-01 00:00:00;1\nyesterday;2\n");
+        let err = read_file(f.path(), &spec(&c))
+            .expect_err("bad time")
+            .to_string();
+        assert!(err.contains(":4: column `time`: `yesterday`"), "{err}");
+        let err = read_file(f.path(), &spec(&cols(&["TI-2"]))).expect_err("no column");
+        assert!(err.to_string().contains(":2: no column `TI-2`"), "{err}");
+        // A column named `sep=x` is a header like any other.
+        let f = file_with(b"sep=x,time\n1,2026-03-01 00:00:00\n");
+        let mut s = spec(&c);
+        let t = read_one(f.path(), &s, false).expect("reads").0;
+        assert_eq!(t.times.len(), 1);
+        s.delimiter = b';';
+        assert!(read_file(f.path(), &s).is_err());
     }
 
     /// Tags split over files (one export per tag group) merge into one row per time, not
