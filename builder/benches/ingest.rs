@@ -53,6 +53,8 @@ fn config(path: &Path) -> Config {
     for j in 1..TAGS {
         writeln!(yaml, "  - {{ tag: T{j:02}, range: [0, 1000] }}").expect("fmt");
     }
+    // At most 12 antecedent variables (the format's limit); reading covers every tag anyway.
+    yaml.push_str("regimes: { variables: [T01, T02, T03, T04, T05, T06] }\n");
     RawConfig::parse(&yaml, Path::new("bench.yaml"))
         .expect("parse")
         .check(Path::new(""), Path::new("bench.yaml"))

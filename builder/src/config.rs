@@ -935,12 +935,19 @@ impl RawConfig {
             }
         };
         if variables.is_empty() || variables.len() > regimix_format::limits::MAX_ANTECEDENT {
+            let max = regimix_format::limits::MAX_ANTECEDENT;
             return Err(invalid(
                 "regimes.variables",
-                format!(
-                    "must name 1 to {} inputs",
-                    regimix_format::limits::MAX_ANTECEDENT
-                ),
+                if r.variables.is_none() {
+                    format!(
+                        "not set, so all {} inputs would be used, but the regimes take at most \
+                         {max}: list the tags that say where the plant operates (key \
+                         temperatures, throughput)",
+                        inputs.len()
+                    )
+                } else {
+                    format!("must name 1 to {max} inputs")
+                },
             ));
         }
         let fuzziness = r.fuzziness.unwrap_or(2.0);
@@ -1199,6 +1206,28 @@ inputs:
             .expect_err("input is a timestamp column")
             .to_string();
         assert!(err.contains("`Time` is the timestamp column"), "{err}");
+    }
+
+    /// More inputs than the regimes can take: the message says the default was used and what
+    /// to list.
+    #[test]
+    fn too_many_inputs_for_the_default_regime_variables() {
+        let mut text = MINIMAL.to_string();
+        for j in 2..=13 {
+            text.push_str(&format!("  - tag: TI-{j}\n"));
+        }
+        let err = load(&text).expect_err("13 variables").to_string();
+        assert!(
+            err.contains(
+                "not set, so all 13 inputs would be used, but the regimes take at most 12"
+            ),
+            "{err}"
+        );
+        let text = format!("{text}regimes:\n  variables: [TI-1, TI-2]\n");
+        assert_eq!(
+            load(&text).expect("two variables").modelling.variables,
+            vec![0, 1]
+        );
     }
 
     #[test]
