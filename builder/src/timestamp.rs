@@ -2,7 +2,8 @@
 //!
 //! Accepted forms (one rule for every cell, so mixed files still work):
 //! - RFC 3339 / ISO 8601 date-times: `2026-03-01T08:15:00Z`, `2026-03-01T08:15:00.25+01:00`,
-//!   lower-case `t`/`z`, a space instead of `T`, offsets as `+hh:mm` or `+hhmm`;
+//!   lower-case `t`/`z`, a space instead of `T`, offsets as `+hh:mm` or `+hhmm` (after a space
+//!   too), `UTC` or `GMT` for a zero offset;
 //! - the same without an offset (`2026-03-01 08:15:00`): the configured offset for naive times applies;
 //! - year-first dates with `/` or `.` (`2026/03/01 08:15`, `2026.3.1`), one or two digits for
 //!   month and day;
@@ -129,6 +130,21 @@ impl Cursor<'_> {
         };
         self.pos += skipped + 2;
         Some(pm)
+    }
+
+    /// `UTC` or `GMT` (any case) after optional spaces, as some exports name the zone.
+    fn utc_name(&mut self) -> bool {
+        let Some(rest) = self.bytes.get(self.pos..) else {
+            return false;
+        };
+        let skipped = rest.iter().take_while(|b| **b == b' ').count();
+        let named = rest
+            .get(skipped..skipped + 3)
+            .is_some_and(|w| w.eq_ignore_ascii_case(b"UTC") || w.eq_ignore_ascii_case(b"GMT"));
+        if named {
+            self.pos += skipped + 3;
+        }
+        named
     }
 
     fn digits(&mut self, count: usize) -> Option<u32> {
@@ -301,9 +317,19 @@ pub fn parse_timestamp(
     if hour > 23 || minute > 59 || second > 60 {
         return Err(fail(text, "time of day out of range"));
     }
+    // `UTC`/`GMT` may stand for the offset or precede one (`UTC+01:00`); a space may precede
+    // the offset.
+    let named_utc = c.utc_name();
+    if !named_utc {
+        c.eat(b' ');
+    }
     let offset_minutes: i64 = if c.done() {
-        i64::from(naive_offset_minutes)
-    } else if c.eat(b'Z') || c.eat(b'z') {
+        if named_utc {
+            0
+        } else {
+            i64::from(naive_offset_minutes)
+        }
+    } else if !named_utc && (c.eat(b'Z') || c.eat(b'z')) {
         0
     } else {
         let sign = if c.eat(b'+') {
@@ -495,6 +521,17 @@ mod tests {
         assert_eq!(utc("2026.03.01 08:15"), t);
         assert_eq!(utc("2026.03.01"), utc("2026-03-01"));
         assert_eq!(utc("1772.5"), 1_772_500_000);
+        // The zone named, or the offset after a space.
+        assert_eq!(
+            parse_timestamp("2026-03-01 08:15:00 UTC", 60, DateOrder::Ymd),
+            Ok(t)
+        );
+        assert_eq!(utc("2026-03-01 08:15 gmt"), t);
+        assert_eq!(utc("2026-03-01 09:15:00 UTC+01:00"), t);
+        assert_eq!(utc("2026-03-01 09:15:00 +01:00"), t);
+        assert_eq!(utc("2026-03-01 08:15:00 Z"), t);
+        assert!(parse_timestamp("2026-03-01 08:15:00 CET", 0, DateOrder::Ymd).is_err());
+        assert!(parse_timestamp("2026-03-01 08:15:00 UTCZ", 0, DateOrder::Ymd).is_err());
         assert!(parse_timestamp("2026/03-01 08:15", 0, DateOrder::Ymd).is_err());
         assert!(parse_timestamp("2026-3-01 08:15", 0, DateOrder::Ymd).is_err());
     }
