@@ -149,13 +149,24 @@ structure: { max-lag: 5min }
 regimes: { count: 2 }
 ";
 
+/// Builds; with no unit given for the target, no empty brackets or doubled spaces appear where
+/// the unit would be.
 #[test]
 fn a_small_plant_builds() {
     let dir = tempfile::tempdir().expect("tempdir");
     small_plant(dir.path(), |_, _| {});
     write(dir.path(), "c.yaml", SMALL);
-    let r = regimix(dir.path(), &["build", "c.yaml", "--out", "o", "--quiet"]);
+    let r = regimix(dir.path(), &["build", "c.yaml", "--out", "o"]);
     assert!(r.status.success(), "{}", String::from_utf8_lossy(&r.stderr));
+    let stdout = String::from_utf8_lossy(&r.stdout);
+    let summary = stdout
+        .lines()
+        .find(|l| l.contains("test RMSE"))
+        .expect("summary");
+    assert!(!summary.contains("  "), "{summary}");
+    let report = std::fs::read_to_string(dir.path().join("o/report.html")).expect("report");
+    assert!(report.contains("<h1>Soft sensor for Y</h1>"));
+    assert!(!report.contains("[]"));
 }
 
 /// The same plant exported with the date and the time of day in separate columns (`Date`,

@@ -39,11 +39,15 @@ pub fn run(config_path: &Path, out: &Path, quiet: bool) -> anyhow::Result<()> {
     ];
     write_all_atomic(out, &files)?;
     println!(
-        "{} regimes, {} regressors; test RMSE {:.4} {} vs global linear {:.4} ({:.2}×); R² {:.3}; out of domain {:.1} %",
+        "{} regimes, {} regressor{}; test RMSE {:.4}{} vs global linear {:.4} ({:.2}×); R² {:.3}; out of domain {:.1} %",
         s.regime_count,
         s.regressors.len(),
+        if s.regressors.len() == 1 { "" } else { "s" },
         s.test.rmse,
-        config.target.spec.unit,
+        match config.target.spec.unit.as_str() {
+            "" => String::new(),
+            unit => format!(" {unit}"),
+        },
         s.baseline.test.rmse,
         s.rmse_ratio,
         s.test.r2,

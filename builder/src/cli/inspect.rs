@@ -138,9 +138,9 @@ pub fn run(path: &Path, json: bool) -> anyhow::Result<()> {
         s.model_id, s.format_version, s.builder_version
     );
     println!(
-        "  estimates {} [{}], transform {}, every {} s, {}",
+        "  estimates {}{}, transform {}, every {} s, {}",
         s.target,
-        s.target_unit,
+        regimix_builder::report::unit_suffix(&s.target_unit),
         s.transform,
         s.sample_time_s,
         if s.simulation_mode {

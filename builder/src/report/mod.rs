@@ -36,6 +36,15 @@ table{border-collapse:collapse;margin:.6em 0}td,th{border:1px solid #c9d3da;padd
 th{background:#eef3f6}td:first-child,th:first-child{text-align:left}.caution{background:#fff4e5;border-left:4px solid #d9822b;padding:.6em 1em}\
 figure{margin:1em 0}figcaption{font-size:.9em;color:#4a5a66}";
 
+/// ` [unit]` after a name, or nothing when the unit is not given.
+pub fn unit_suffix(unit: &str) -> String {
+    if unit.is_empty() {
+        String::new()
+    } else {
+        format!(" [{unit}]")
+    }
+}
+
 /// The whole report.
 pub fn report_html(b: &Built, config: &Config, s: &Summary) -> String {
     let ds = &b.prepared.dataset;
@@ -46,13 +55,14 @@ pub fn report_html(b: &Built, config: &Config, s: &Summary) -> String {
     let _ = write!(h, "<!DOCTYPE html><html lang=\"en\"><head><meta charset=\"utf-8\"/><title>regimix report — {}</title><style>{STYLE}</style></head><body>", esc(target));
     let _ = write!(
         h,
-        "<h1>Soft sensor for {} [{}]</h1><p>Model <code>{}</code>, builder {}, {} regimes, {} regressors, sample time {}. Test block from {} ({} samples).</p>",
+        "<h1>Soft sensor for {}{}</h1><p>Model <code>{}</code>, builder {}, {} regimes, {} regressor{}, sample time {}. Test block from {} ({} samples).</p>",
         esc(target),
-        esc(unit),
+        esc(&unit_suffix(unit)),
         s.model_id,
         esc(&s.builder_version),
         s.regime_count,
         s.regressors.len(),
+        if s.regressors.len() == 1 { "" } else { "s" },
         config.sample_time,
         s.test_start,
         s.test.samples

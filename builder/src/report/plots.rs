@@ -131,8 +131,8 @@ pub fn parity(pairs: &[(f64, f64)], unit: &str) -> String {
             .ok()?;
         chart
             .configure_mesh()
-            .x_desc(format!("measured [{unit}]"))
-            .y_desc(format!("estimate [{unit}]"))
+            .x_desc(format!("measured{}", super::unit_suffix(unit)))
+            .y_desc(format!("estimate{}", super::unit_suffix(unit)))
             .draw()
             .ok()?;
         chart
@@ -173,7 +173,7 @@ pub fn histogram(values: &[f64], unit: &str) -> String {
             .ok()?;
         chart
             .configure_mesh()
-            .x_desc(format!("residual [{unit}]"))
+            .x_desc(format!("residual{}", super::unit_suffix(unit)))
             .y_desc("samples")
             .draw()
             .ok()?;
