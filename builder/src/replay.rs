@@ -84,31 +84,55 @@ pub fn replay(
         .collect())
 }
 
-/// Reads a CSV for replay: the timestamp column(s) (default: the first column) and the model's input
-/// tags, one step per row. Quality markers, below-limit readings and blanks become NaN (the
+/// How a replay CSV is written (the defaults: first column, `,`, decimal point, UTC, year first).
+#[derive(Debug, Clone, PartialEq)]
+pub struct CsvForm {
+    /// Timestamp column(s); `None`: the first column.
+    pub timestamp: Option<TimestampColumns>,
+    /// Field delimiter (a `sep=` first line overrides it).
+    pub delimiter: u8,
+    /// Numbers are written with a decimal comma.
+    pub decimal_comma: bool,
+    /// Offset of timestamps written without one, minutes east of UTC.
+    pub naive_offset_minutes: i32,
+    /// How dates not starting with the year are read.
+    pub date_order: DateOrder,
+}
+
+impl Default for CsvForm {
+    fn default() -> Self {
+        CsvForm {
+            timestamp: None,
+            delimiter: b',',
+            decimal_comma: false,
+            naive_offset_minutes: 0,
+            date_order: DateOrder::Ymd,
+        }
+    }
+}
+
+/// Reads a CSV for replay: the timestamp column(s) (default: the first column) and the model's
+/// input tags, one step per row. Quality markers, below-limit readings and blanks become NaN (the
 /// runtime substitutes them).
 pub fn read_inputs(
     path: &Path,
     model: &ModelView<'_>,
-    timestamp: Option<&TimestampColumns>,
-    delimiter: u8,
-    decimal_comma: bool,
-    date_order: DateOrder,
+    form: &CsvForm,
 ) -> Result<(Vec<Micros>, Vec<Vec<f64>>), DataError> {
-    let timestamp = match timestamp {
+    let timestamp = match &form.timestamp {
         Some(t) => t.clone(),
-        None => TimestampColumns::One(first_column(path, delimiter)?),
+        None => TimestampColumns::One(first_column(path, form.delimiter)?),
     };
     let columns: Vec<(String, &'static str)> = (0..model.n_inputs())
         .map(|j| (model.input_tag(j).to_string(), "model input"))
         .collect();
     let spec = ReadSpec {
-        delimiter,
+        delimiter: form.delimiter,
         timestamp: &timestamp,
         columns: &columns,
-        naive_offset_minutes: 0,
-        decimal_comma,
-        date_order,
+        naive_offset_minutes: form.naive_offset_minutes,
+        decimal_comma: form.decimal_comma,
+        date_order: form.date_order,
     };
     let table = read_file(path, &spec)?;
     // Only values: a below-limit reading (`<0.01`) holds its limit but is not a measurement.

@@ -196,3 +196,44 @@ fn replay_reads_day_and_month_first_dates_with_date_order() {
     let out = regimix(dir.path(), &["replay", &model, "dmy.csv"]);
     assert_clean_failure(&out, "day or month first");
 }
+
+/// `replay --naive-offset` reads timestamps without an offset as local time at that offset (the
+/// output is UTC); the estimates are the same; a malformed offset is a clean error.
+#[test]
+fn replay_applies_the_naive_offset() {
+    let dir = tempfile::tempdir().expect("tempdir");
+    let model = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("../docs/examples/tiny-model.rgmx")
+        .to_string_lossy()
+        .to_string();
+    write(
+        dir.path(),
+        "local.csv",
+        "time,TI-1\n2026-03-02 13:00:00,101.5\n2026-03-02 13:01:00,99.0\n",
+    );
+    let utc = regimix(dir.path(), &["replay", &model, "local.csv"]);
+    let local = regimix(
+        dir.path(),
+        &["replay", &model, "local.csv", "--naive-offset", "+01:00"],
+    );
+    assert!(
+        local.status.success(),
+        "{}",
+        String::from_utf8_lossy(&local.stderr)
+    );
+    let (utc, local) = (
+        String::from_utf8_lossy(&utc.stdout).to_string(),
+        String::from_utf8_lossy(&local.stdout).to_string(),
+    );
+    assert!(utc.contains("2026-03-02T13:00:00Z,"), "{utc}");
+    assert!(local.contains("2026-03-02T12:00:00Z,"), "{local}");
+    assert_eq!(utc.replace("T13:0", "T12:0"), local, "only the times move");
+    let out = regimix(
+        dir.path(),
+        &["replay", &model, "local.csv", "--naive-offset", "CET"],
+    );
+    assert_clean_failure(
+        &out,
+        "--naive-offset must be like `+01:00`, `-05:30` or `UTC`, not `CET`",
+    );
+}

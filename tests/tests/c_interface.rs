@@ -4,8 +4,7 @@
 use std::path::PathBuf;
 use std::process::Command;
 
-use regimix_builder::replay::{read_inputs, replay};
-use regimix_builder::timestamp::DateOrder;
+use regimix_builder::replay::{read_inputs, replay, CsvForm};
 use regimix_format::ModelView;
 use regimix_tests::workspace_root;
 
@@ -90,8 +89,7 @@ fn c_example_reproduces_the_rust_replay() {
 
     let bytes = std::fs::read(&model_path).expect("model");
     let model = ModelView::parse(&bytes).expect("valid");
-    let (times, rows) =
-        read_inputs(&data, &model, None, b',', false, DateOrder::Ymd).expect("inputs");
+    let (times, rows) = read_inputs(&data, &model, &CsvForm::default()).expect("inputs");
     let rust = replay(&bytes, &times, &rows).expect("replay");
     assert_eq!(c_rows.len(), rust.len());
     let mut flagged = 0;

@@ -77,6 +77,9 @@ enum Command {
         /// (12/31/2026); `ymd` accepts year-first dates only.
         #[arg(long, default_value = "ymd", value_parser = ["ymd", "dmy", "mdy"])]
         date_order: String,
+        /// UTC offset of timestamps written without one: `+01:00`, `-05:30` or `UTC`.
+        #[arg(long, default_value = "UTC", allow_hyphen_values = true)]
+        naive_offset: String,
     },
     /// Show what a model file holds: regimes, operating points, gains, dead times, time
     /// constants, limits and settings.
@@ -113,15 +116,17 @@ pub fn run(cli: Cli) -> anyhow::Result<()> {
             delimiter,
             decimal_mark,
             date_order,
-        } => replay::run(
-            &model,
-            &data,
-            out.as_deref(),
-            timestamp,
-            delimiter,
-            decimal_mark,
-            &date_order,
-        ),
+            naive_offset,
+        } => {
+            let form = replay::csv_form(
+                timestamp,
+                delimiter,
+                decimal_mark,
+                &date_order,
+                &naive_offset,
+            )?;
+            replay::run(&model, &data, out.as_deref(), &form)
+        }
         Command::Inspect { model, json } => inspect::run(&model, json),
     }
 }
