@@ -278,6 +278,31 @@ fn tags_split_over_files_build_the_same_model() {
     assert!(text.contains("duplicate rows   0"), "{text}");
 }
 
+/// An analyzer held between updates (a new value every 4 minutes in a 1-minute export): `check`
+/// names the update interval; a target that changes every sample gets no such note.
+#[test]
+fn check_names_an_analyzers_update_interval() {
+    let dir = tempfile::tempdir().expect("tempdir");
+    let held = std::cell::RefCell::new(String::new());
+    small_plant(dir.path(), |k, row| {
+        if k % 4 == 0 {
+            *held.borrow_mut() = row[3].clone();
+        }
+        row[3] = held.borrow().clone();
+    });
+    write(dir.path(), "c.yaml", SMALL);
+    let r = regimix(dir.path(), &["check", "c.yaml"]);
+    let text = String::from_utf8_lossy(&r.stdout);
+    assert!(
+        text.contains("usable samples (analyzer; a new reading every 4min, held in between)"),
+        "{text}"
+    );
+    small_plant(dir.path(), |_, _| {});
+    let r = regimix(dir.path(), &["check", "c.yaml"]);
+    let text = String::from_utf8_lossy(&r.stdout);
+    assert!(text.contains("usable samples (analyzer)\n"), "{text}");
+}
+
 /// The small plant is first order, y(k) = 0.9·y(k−1) + 0.002·X1(k)² + noise. Built with output
 /// lags, its validation runs the runtime in free-run simulation, so the output lags the runtime
 /// feeds back must be the ones the builder fitted: y(k−1) for lag 1. Fed y(k−2) instead, the

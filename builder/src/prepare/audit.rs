@@ -203,6 +203,9 @@ pub struct TargetAudit {
     pub usable_samples: usize,
     /// Lab placement counts (lab targets only).
     pub lab: Option<LabPlacement>,
+    /// Analyzer targets: how long a reading typically lasts when the export holds it between
+    /// updates ([`Dataset::target_update_samples`]), e.g. `5min`.
+    pub update_every: Option<String>,
 }
 
 /// Everything `check` reports.
@@ -295,6 +298,12 @@ impl Audit {
                 source: config.target.source,
                 usable_samples: dataset.usable_target_rows(),
                 lab,
+                update_every: match config.target.source {
+                    TargetSource::Analyzer => dataset.target_update_samples().map(|n| {
+                        Span::from_micros(n as i64 * config.sample_time.micros()).to_string()
+                    }),
+                    TargetSource::Lab => None,
+                },
             },
             tags,
             warnings: Vec::new(),
@@ -567,11 +576,15 @@ impl fmt::Display for Audit {
         writeln!(f, "  duplicate rows   {}", self.duplicate_rows)?;
         writeln!(
             f,
-            "  target           {} usable samples ({})",
+            "  target           {} usable samples ({}{})",
             self.target.usable_samples,
             match self.target.source {
                 TargetSource::Analyzer => "analyzer",
                 TargetSource::Lab => "lab",
+            },
+            match &self.target.update_every {
+                Some(every) => format!("; a new reading every {every}, held in between"),
+                None => String::new(),
             }
         )?;
         writeln!(f)?;

@@ -77,6 +77,32 @@ impl Dataset {
             .filter(|s| **s == CellStatus::Valid)
             .count()
     }
+
+    /// Grid samples a target reading typically lasts: the median length of the runs of equal
+    /// consecutive valid values (a run also ends at an invalid sample), when it is 2 or more; an
+    /// analyzer held between its cycles shows its cycle here.
+    pub fn target_update_samples(&self) -> Option<usize> {
+        let mut runs = Vec::new();
+        let mut run = 0usize;
+        let mut last: Option<u64> = None;
+        for (value, status) in self.target.iter().zip(&self.target_status) {
+            let bits = (*status == CellStatus::Valid).then(|| value.to_bits());
+            if bits.is_some() && bits == last {
+                run += 1;
+            } else {
+                if run > 0 {
+                    runs.push(run);
+                }
+                run = usize::from(bits.is_some());
+            }
+            last = bits;
+        }
+        if run > 0 {
+            runs.push(run);
+        }
+        runs.sort_unstable();
+        runs.get(runs.len() / 2).copied().filter(|&m| m >= 2)
+    }
 }
 
 /// The transform a config asks for.
