@@ -376,7 +376,11 @@ pub fn report_html(b: &Built, config: &Config, s: &Summary) -> String {
 
     // Data audit.
     h.push_str("<h2 id=\"data\">Data audit</h2>");
-    let _ = write!(h, "<p>{} → {}, {} samples every {}, {} duplicated rows collapsed, {} usable target samples.</p>", audit.first, audit.last, audit.grid_samples, audit.sample_time, audit.duplicate_rows, audit.target.usable_samples);
+    let _ = write!(h, "<p>{} → {}, {} samples every {}, {} duplicated rows collapsed, {} usable target samples{}.</p>", audit.first, audit.last, audit.grid_samples, audit.sample_time, audit.duplicate_rows, audit.target.usable_samples,
+        match &audit.target.update_every {
+            Some(every) => format!(" (the analyzer gives a new reading every {}, held in between)", esc(every)),
+            None => String::new(),
+        });
     h.push_str("<table><tr><th>tag</th><th>role</th><th>valid %</th><th>markers</th><th>frozen samples</th><th>spikes</th><th>min</th><th>mean</th><th>max</th><th>unit</th></tr>");
     for t in &audit.tags {
         let _ = write!(
