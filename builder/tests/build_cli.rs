@@ -149,6 +149,16 @@ structure: { max-lag: 5min }
 regimes: { count: 2 }
 ";
 
+/// The small plant written as `plant.csv` and built with [`SMALL`] into `one/`; returns the CSV
+/// text, for tests that export the same plant another way and compare models.
+fn small_plant_built_as_one(dir: &std::path::Path) -> String {
+    small_plant(dir, |_, _| {});
+    write(dir, "c.yaml", SMALL);
+    let r = regimix(dir, &["build", "c.yaml", "--out", "one", "--quiet"]);
+    assert!(r.status.success(), "{}", String::from_utf8_lossy(&r.stderr));
+    std::fs::read_to_string(dir.join("plant.csv")).expect("plant")
+}
+
 /// Builds; with no unit given for the target, no empty brackets or doubled spaces appear where
 /// the unit would be.
 #[test]
@@ -175,11 +185,7 @@ fn a_small_plant_builds() {
 #[test]
 fn split_date_and_time_columns_build_the_same_model() {
     let dir = tempfile::tempdir().expect("tempdir");
-    small_plant(dir.path(), |_, _| {});
-    write(dir.path(), "c.yaml", SMALL);
-    let r = regimix(dir.path(), &["build", "c.yaml", "--out", "one", "--quiet"]);
-    assert!(r.status.success(), "{}", String::from_utf8_lossy(&r.stderr));
-    let text = std::fs::read_to_string(dir.path().join("plant.csv")).expect("plant");
+    let text = small_plant_built_as_one(dir.path());
     let split: String = text
         .lines()
         .map(|line| match line.split_once(',') {
@@ -245,11 +251,7 @@ fn split_date_and_time_columns_build_the_same_model() {
 #[test]
 fn tags_split_over_files_build_the_same_model() {
     let dir = tempfile::tempdir().expect("tempdir");
-    small_plant(dir.path(), |_, _| {});
-    write(dir.path(), "c.yaml", SMALL);
-    let r = regimix(dir.path(), &["build", "c.yaml", "--out", "one", "--quiet"]);
-    assert!(r.status.success(), "{}", String::from_utf8_lossy(&r.stderr));
-    let text = std::fs::read_to_string(dir.path().join("plant.csv")).expect("plant");
+    let text = small_plant_built_as_one(dir.path());
     let (mut first, mut second) = (String::new(), String::new());
     for line in text.lines() {
         let cells: Vec<&str> = line.split(',').collect();

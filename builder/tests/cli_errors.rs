@@ -25,6 +25,14 @@ fn run_with_data(data: &[u8]) -> (tempfile::TempDir, std::process::Output) {
     (dir, out)
 }
 
+/// The spec's example model (`docs/examples/tiny-model.rgmx`, one input `TI-1`), as a path.
+fn tiny_model() -> String {
+    std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("../docs/examples/tiny-model.rgmx")
+        .to_string_lossy()
+        .to_string()
+}
+
 #[test]
 fn each_bad_file_gets_one_message_naming_the_place() {
     let cases: Vec<(&[u8], &str)> = vec![
@@ -96,10 +104,7 @@ fn usage_errors_exit_non_zero() {
 #[test]
 fn replay_reads_decimal_commas_alike() {
     let dir = tempfile::tempdir().expect("tempdir");
-    let model = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
-        .join("../docs/examples/tiny-model.rgmx")
-        .to_string_lossy()
-        .to_string();
+    let model = tiny_model();
     let plain = "time,TI-1\n2026-03-02 00:00:00,101.5\n2026-03-02 00:01:00,Bad\n2026-03-02 00:02:00,97.25\n";
     write(dir.path(), "plain.csv", plain);
     write(
@@ -135,10 +140,7 @@ fn replay_reads_decimal_commas_alike() {
 #[test]
 fn replay_treats_a_below_limit_reading_as_invalid() {
     let dir = tempfile::tempdir().expect("tempdir");
-    let model = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
-        .join("../docs/examples/tiny-model.rgmx")
-        .to_string_lossy()
-        .to_string();
+    let model = tiny_model();
     let rows = |cell: &str| {
         format!("time,TI-1\n2026-03-02 00:00:00,101.5\n2026-03-02 00:01:00,{cell}\n2026-03-02 00:02:00,97.25\n")
     };
@@ -158,10 +160,7 @@ fn replay_treats_a_below_limit_reading_as_invalid() {
 #[test]
 fn replay_reads_day_and_month_first_dates_with_date_order() {
     let dir = tempfile::tempdir().expect("tempdir");
-    let model = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
-        .join("../docs/examples/tiny-model.rgmx")
-        .to_string_lossy()
-        .to_string();
+    let model = tiny_model();
     write(
         dir.path(),
         "iso.csv",
@@ -202,10 +201,7 @@ fn replay_reads_day_and_month_first_dates_with_date_order() {
 #[test]
 fn replay_applies_the_naive_offset() {
     let dir = tempfile::tempdir().expect("tempdir");
-    let model = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
-        .join("../docs/examples/tiny-model.rgmx")
-        .to_string_lossy()
-        .to_string();
+    let model = tiny_model();
     write(
         dir.path(),
         "local.csv",
