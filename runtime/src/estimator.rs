@@ -524,7 +524,7 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         let square = m == 2.0;
         let exponent = T::from_f64(1.0 / (m - 1.0));
         let power = |x: T| if square { x } else { x.powf(exponent) };
-        let typicality = T::ONE / (T::ONE + power(pass.best_d2 / pass.best_eta));
+        let typicality = T::ONE / (T::ONE + power(pass.best_ratio));
         let (mut sum, mut numerator) = (pass.inverse_sum, pass.inverse_blend);
         if !square {
             (sum, numerator) = (T::ZERO, T::ZERO);
@@ -674,16 +674,15 @@ struct Pass<T> {
     /// Σ 1/d²_i and Σ y_i/d²_i: the memberships' sums for fuzziness 2.
     inverse_sum: T,
     inverse_blend: T,
-    /// Squared distance and η of the regime with the smallest d²/η (the largest typicality).
-    best_d2: T,
-    best_eta: T,
+    /// Smallest d²_i/η_i (the largest typicality; +∞ until a regime is seen).
+    best_ratio: T,
 }
 
 /// One pass over the first `c` regimes for `p` antecedent variables (section F's blocks of two
 /// regimes with their words interleaved), given their squared distances in `d2`
-/// ([`distances_with`]): the consequents two regimes at a time ([`consequents`]), then, one
-/// regime at a time and in order, each d² floored at 1e-30 and replaced by its reciprocal, the
-/// smallest d², the largest typicality and the membership sums.
+/// ([`distances_with`]): per block, both regimes' consequents side by side ([`consequents`]),
+/// their d² floored at 1e-30 and replaced by its reciprocal and their d²/η; then, one regime at
+/// a time and in order, the smallest d², the smallest d²/η and the membership sums.
 fn regime_pass<T: Real>(
     pairs: core::slice::ChunksExact<'_, u8>,
     p: usize,
@@ -696,44 +695,49 @@ fn regime_pass<T: Real>(
         dmin: T::from_f64(f64::MAX),
         inverse_sum: T::ZERO,
         inverse_blend: T::ZERO,
-        best_d2: T::ONE, // ratio +∞ until a regime is seen
-        best_eta: T::ZERO,
+        best_ratio: T::from_f64(f64::INFINITY),
     };
+    let tiny = T::from_f64(1e-30);
     // η, the offset and the coefficients follow the center and the factor.
     let geometry = p + p * (p + 1) / 2;
-    // An odd count's padding regime gets no slot.
-    let mut slots = d2.iter_mut().zip(local.iter_mut()).take(c);
-    for block in pairs {
-        for (eta, output) in consequents::<T, 2>(block, geometry, values) {
-            if let Some((inverse, local)) = slots.next() {
-                pass.add(inverse, local, eta, output);
-            }
+    let (d2, _) = d2.as_chunks_mut::<2>();
+    let (local, _) = local.as_chunks_mut::<2>();
+    // Not `zip`: the block count of a `ChunksExact` costs an integer division.
+    let mut slots = d2.iter_mut().zip(local.iter_mut());
+    for (k, block) in pairs.enumerate() {
+        let Some((inverse, local)) = slots.next() else {
+            break;
+        };
+        let (eta, y) = consequents::<T, 2>(block, geometry, values);
+        // Lane by lane, so that each pair compiles to one vector operation.
+        let d = inverse.map(|t| if t > tiny { t } else { tiny });
+        *inverse = d.map(|d| T::ONE / d); // ≤ 1e30: finite in f32 too
+        let ratio = [d[0] / eta[0], d[1] / eta[1]];
+        pass.add(d[0], inverse[0], ratio[0], y[0]);
+        local[0] = y[0];
+        // An odd count's padding regime gets no slot.
+        if 2 * k + 1 < c {
+            pass.add(d[1], inverse[1], ratio[1], y[1]);
+            local[1] = y[1];
         }
     }
     pass
 }
 
 impl<T: Real> Pass<T> {
-    /// Takes in the next regime: `inverse` holds its d² on entry and 1/d² on return; `eta` is
-    /// its typicality scale and `output` its local model's output (stored into `local`).
+    /// Takes in the next regime: its floored d², 1/d², d²/η and local model output.
     #[inline(always)]
-    fn add(&mut self, inverse: &mut T, local: &mut T, eta: T, output: T) {
-        let tiny = T::from_f64(1e-30);
-        let total = *inverse;
-        let d2 = if total > tiny { total } else { tiny };
-        *inverse = T::ONE / d2; // ≤ 1e30: finite in f32 too
+    fn add(&mut self, d2: T, inverse: T, ratio: T, output: T) {
         if d2 < self.dmin {
             self.dmin = d2;
         }
-        // The largest typicality belongs to the smallest d²/η (the power is increasing);
-        // compared as d²·η_best < d²_best·η (both positive), one division at the end.
-        if d2 * self.best_eta < self.best_d2 * eta {
-            self.best_d2 = d2;
-            self.best_eta = eta;
+        // The largest typicality belongs to the smallest d²/η (the power is increasing); a NaN
+        // ratio (a block too short) is never taken.
+        if ratio < self.best_ratio {
+            self.best_ratio = ratio;
         }
-        *local = output;
-        self.inverse_sum = self.inverse_sum + *inverse;
-        self.inverse_blend = self.inverse_blend + *inverse * output;
+        self.inverse_sum = self.inverse_sum + inverse;
+        self.inverse_blend = self.inverse_blend + inverse * output;
     }
 }
 
@@ -747,10 +751,10 @@ fn consequents<T: Real, const L: usize>(
     block: &[u8],
     geometry: usize,
     values: &[T],
-) -> [(T, T); L] {
+) -> ([T; L], [T; L]) {
     let start = 8 * L * geometry;
     let Some(rest) = block.get(start..start + 8 * L * (2 + values.len())) else {
-        return [(T::NAN, T::NAN); L];
+        return ([T::NAN; L], [T::NAN; L]);
     };
     let (head, coefficients) = rest.split_at(16 * L);
     let mut acc = [[T::ZERO; L]; 4];
@@ -771,12 +775,13 @@ fn consequents<T: Real, const L: usize>(
             *a = *a + decode::<T>(&cs[8 * lane..8 * lane + 8]) * *v;
         }
     }
-    core::array::from_fn(|lane| {
-        let eta = decode::<T>(&head[8 * lane..8 * lane + 8]);
+    let eta = core::array::from_fn(|lane| decode::<T>(&head[8 * lane..8 * lane + 8]));
+    let output = core::array::from_fn(|lane| {
         let offset = decode::<T>(&head[8 * (L + lane)..8 * (L + lane) + 8]);
         let [s0, s1, s2, s3] = acc.map(|a| a[lane]);
-        (eta, offset + ((s0 + s1) + (s2 + s3)))
-    })
+        offset + ((s0 + s1) + (s2 + s3))
+    });
+    (eta, output)
 }
 
 /// ‖F (x − c)‖² of every regime for `P` antecedent variables, into `d2` (NaN for a block too
@@ -972,6 +977,67 @@ mod tests {
                 &mut d2,
             );
             assert!(d2[..2].iter().all(|d| d.is_nan()), "{d2:?}");
+        }
+    }
+
+    #[test]
+    fn the_pass_keeps_the_smallest_distance_over_scale_and_skips_nan_and_padding() {
+        let (p, nr) = (2, 3);
+        let geometry = p + p * (p + 1) / 2;
+        let values = [0.5, -1.0, 2.0];
+        for c in 1..=5 {
+            let (words, mut section, len) = regimes(c, p, nr);
+            let eta_at = |regime: usize| 16 * len * (regime / 2) + 8 * (2 * geometry + regime % 2);
+            // η of 1, 2, 3, …; the padding regime of an odd count gets η = 1 and d² = 1e-3, so
+            // it would win were it taken.
+            for i in 0..c.next_multiple_of(2) {
+                let eta = if i < c { (i + 1) as f64 } else { 1.0 };
+                section[eta_at(i)..eta_at(i) + 8].copy_from_slice(&eta.to_le_bytes());
+            }
+            let d2_of = |i: usize| {
+                if i < c {
+                    0.5 + ((i * 7) % 5) as f64
+                } else {
+                    1e-3
+                }
+            };
+            let mut d2: [f64; MAX_REGIMES] = core::array::from_fn(d2_of);
+            let mut local = [f64::NAN; MAX_REGIMES];
+            let pass = regime_pass(
+                section.chunks_exact(16 * len),
+                p,
+                c,
+                &values,
+                &mut d2,
+                &mut local,
+            );
+            let best = (0..c)
+                .map(|i| d2_of(i) / (i + 1) as f64)
+                .fold(f64::INFINITY, f64::min);
+            assert_eq!(pass.best_ratio, best, "c = {c}");
+            let nearest = (0..c).map(d2_of).fold(f64::INFINITY, f64::min);
+            assert_eq!(pass.dmin, nearest, "c = {c}");
+            assert_eq!(words.len(), c);
+
+            // A NaN η (a damaged block) is never the best, not even as the last regime; the
+            // others still count.
+            if c >= 2 {
+                let last = c - 1;
+                section[eta_at(last)..eta_at(last) + 8].copy_from_slice(&f64::NAN.to_le_bytes());
+                let mut d2: [f64; MAX_REGIMES] = core::array::from_fn(d2_of);
+                let pass = regime_pass(
+                    section.chunks_exact(16 * len),
+                    p,
+                    c,
+                    &values,
+                    &mut d2,
+                    &mut local,
+                );
+                let best = (0..last)
+                    .map(|i| d2_of(i) / (i + 1) as f64)
+                    .fold(f64::INFINITY, f64::min);
+                assert_eq!(pass.best_ratio, best, "c = {c}, NaN η");
+            }
         }
     }
 
