@@ -8,6 +8,8 @@
 //! - year-first dates with `/` or `.` (`2026/03/01 08:15`, `2026.3.1`), one or two digits for
 //!   month and day;
 //! - a date alone (`2026-03-01`): midnight;
+//! - ISO 8601's basic format, `20260301T081500Z`, `20260301 0815`, and the all-digit
+//!   `202603010815` or `20260301081500` (see [`basic_date`] for when these are not epoch time);
 //! - epoch time, with or without a fraction: seconds (`1772352900`, `1772352900.5`), or
 //!   milliseconds, microseconds or nanoseconds told apart by size (`1772352900500`);
 //! - with [`DateOrder::Dmy`] or [`DateOrder::Mdy`], also dates with the day or the month first,
@@ -185,6 +187,40 @@ fn day_or_month_first(bytes: &[u8]) -> bool {
     (1..=2).contains(&lead) && matches!(bytes.get(lead), Some(b'.' | b'/' | b'-'))
 }
 
+/// The date of ISO 8601's basic format, `yyyymmdd` followed by `T` or a space and a time
+/// (`20260301T081500Z`, `20260301 0815`), or the all-digit date and time that PLC and historian
+/// exports write, `yyyymmddhhmm` or `yyyymmddhhmmss`. The all-digit forms are taken only when
+/// every field is in range and the year lies in 1900–2199; other numbers stay epoch time (as
+/// epoch milliseconds, 12-digit numbers from `190000000000` to `219999999999` fall in 1976; as
+/// seconds, 12 and 14 digits lie past the year 5000). A date alone in eight digits stays epoch
+/// seconds: a counter of seconds passes through such numbers.
+fn basic_date(bytes: &[u8]) -> Option<(i64, u32, u32)> {
+    let date = bytes.get(..8)?;
+    if !date.iter().all(u8::is_ascii_digit) {
+        return None;
+    }
+    let number = |range: core::ops::Range<usize>| {
+        bytes[range]
+            .iter()
+            .fold(0u32, |n, b| n * 10 + u32::from(b - b'0'))
+    };
+    let (year, month, day) = (i64::from(number(0..4)), number(4..6), number(6..8));
+    match bytes.get(8) {
+        Some(b'T' | b't' | b' ') => Some((year, month, day)),
+        _ if (bytes.len() == 12 || bytes.len() == 14) && bytes.iter().all(u8::is_ascii_digit) => {
+            let second = if bytes.len() == 14 { number(12..14) } else { 0 };
+            let plausible = (1900..=2199).contains(&year)
+                && (1..=12).contains(&month)
+                && (1..=days_in_month(year, month)).contains(&day)
+                && number(8..10) <= 23
+                && number(10..12) <= 59
+                && second <= 59;
+            plausible.then_some((year, month, day))
+        }
+        _ => None,
+    }
+}
+
 /// Reads `d.m.yyyy` or `m/d/yyyy` (one separator of `.`, `/`, `-`, used twice) as (year, month,
 /// day) in `order`.
 fn day_month_year(
@@ -219,7 +255,11 @@ pub fn parse_timestamp(
     }
     let bytes = trimmed.as_bytes();
     let mut c = Cursor { bytes, pos: 0 };
-    let (year, month, day) = if day_or_month_first(bytes) {
+    let basic = basic_date(bytes);
+    let (year, month, day) = if let Some(date) = basic {
+        c.pos = 8;
+        date
+    } else if day_or_month_first(bytes) {
         if order == DateOrder::Ymd {
             return Err(fail(
                 text,
@@ -272,17 +312,31 @@ pub fn parse_timestamp(
     if c.done() {
         return Ok(days * 86_400_000_000 - i64::from(naive_offset_minutes) * 60_000_000);
     }
-    if !(c.eat(b'T') || c.eat(b't') || c.eat(b' ')) {
+    // The all-digit basic form runs the time straight on from the date.
+    let run_on = basic.is_some() && c.peek().is_some_and(|b| b.is_ascii_digit());
+    if !(run_on || c.eat(b'T') || c.eat(b't') || c.eat(b' ')) {
         return Err(fail(text, "expected `T` or a space between date and time"));
     }
-    let hour = c.some_digits(2).ok_or_else(|| fail(text, "bad hour"))?;
-    if !c.eat(b':') {
+    let hour = if basic.is_some() {
+        c.digits(2)
+    } else {
+        c.some_digits(2)
+    }
+    .ok_or_else(|| fail(text, "bad hour"))?;
+    // ISO 8601's basic format writes `hhmm[ss]` without colons.
+    let extended = c.eat(b':');
+    if !extended && basic.is_none() {
         return Err(fail(text, "expected `:` after the hour"));
     }
     let minute = c.digits(2).ok_or_else(|| fail(text, "bad minute"))?;
     let mut second = 0;
     let mut micros = 0i64;
-    if c.eat(b':') {
+    let has_seconds = if extended {
+        c.eat(b':')
+    } else {
+        c.peek().is_some_and(|b| b.is_ascii_digit())
+    };
+    if has_seconds {
         second = c.digits(2).ok_or_else(|| fail(text, "bad second"))?;
         if c.eat(b'.') || c.eat(b',') {
             let start = c.pos;
@@ -534,6 +588,47 @@ mod tests {
         assert!(parse_timestamp("2026-03-01 08:15:00 UTCZ", 0, DateOrder::Ymd).is_err());
         assert!(parse_timestamp("2026/03-01 08:15", 0, DateOrder::Ymd).is_err());
         assert!(parse_timestamp("2026-3-01 08:15", 0, DateOrder::Ymd).is_err());
+    }
+
+    #[test]
+    fn basic_format_and_all_digit_dates() {
+        // ISO 8601-1:2019 §5.4.2 writes the basic format without separators (`20260301T081500`).
+        let t = utc("2026-03-01T08:15:00Z");
+        assert_eq!(utc("20260301T081500Z"), t);
+        assert_eq!(utc("20260301T0815Z"), t);
+        assert_eq!(utc("20260301t081500z"), t);
+        assert_eq!(utc("20260301T091500+0100"), t);
+        assert_eq!(utc("20260301 081500"), t);
+        assert_eq!(utc("20260301 08:15:00"), t);
+        assert_eq!(utc("20260301T081500.5Z"), t + 500_000);
+        assert_eq!(
+            parse_timestamp("20260301T091500", 60, DateOrder::Ymd),
+            Ok(t)
+        );
+        // All digits: date and time run together.
+        assert_eq!(utc("202603010815"), t);
+        assert_eq!(utc("20260301081500"), t);
+        assert_eq!(utc("20260301081530"), t + 30_000_000);
+        // Out-of-range fields or years leave them epoch time (milliseconds at 12 to 14 digits).
+        assert_eq!(utc("202613010815"), 202_613_010_815_000); // month 13
+        assert_eq!(utc("202602300815"), 202_602_300_815_000); // 30 February
+        assert_eq!(utc("202603012415"), 202_603_012_415_000); // hour 24
+        assert_eq!(utc("946684800000"), utc("2000-01-01T00:00:00Z")); // "year 9466"
+        assert_eq!(utc("22000301081500"), 22_000_301_081_500_000); // the year 2200
+                                                                   // Eight digits alone stay epoch seconds; 13 digits stay milliseconds.
+        assert_eq!(utc("20260301"), 20_260_301_000_000);
+        assert_eq!(utc("1772352900500"), t + 500_000);
+        for bad in [
+            "20260301T08",
+            "20260301T0815:00",
+            "20260301T081",
+            "20260332T0815",
+        ] {
+            assert!(
+                parse_timestamp(bad, 0, DateOrder::Ymd).is_err(),
+                "{bad} should be rejected"
+            );
+        }
     }
 
     #[test]
