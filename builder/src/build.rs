@@ -12,6 +12,7 @@ use regimix_format::{InputSettings, Regressor, Source, TargetSettings};
 use regimix_runtime::Status;
 
 use crate::config::{Config, Estimation, RegimeCount};
+use crate::duration::Span;
 use crate::error::DataError;
 use crate::identify::global::{fit_baseline, fit_global};
 use crate::identify::refine::{refine, simulation_mse};
@@ -168,6 +169,8 @@ pub struct Built {
     pub clustering_rows: usize,
     /// Whether output-error refinement was applied (and kept).
     pub refined: bool,
+    /// Advice on the result for the engineer ([`structure_notes`]).
+    pub notes: Vec<String>,
 }
 
 fn column_stats(values: impl Iterator<Item = f64>) -> (f64, f64, f64, f64) {
@@ -544,6 +547,16 @@ pub fn build(config: &Config, progress: &dyn Fn(&str)) -> Result<Built, BuildErr
                 .collect::<Vec<_>>(),
         )
     };
+    let notes = structure_notes(
+        &terms,
+        &m.max_lag,
+        &config
+            .inputs
+            .iter()
+            .map(|i| i.tag.as_str())
+            .collect::<Vec<_>>(),
+        config.sample_time,
+    );
     Ok(Built {
         prepared: prepared.clone(),
         spec,
@@ -562,12 +575,72 @@ pub fn build(config: &Config, progress: &dyn Fn(&str)) -> Result<Built, BuildErr
         training_rows: train_rows.len(),
         clustering_rows: rows.len(),
         refined,
+        notes,
     })
+}
+
+/// Inputs whose longest chosen delay is the longest searched: the best delay may lie beyond the
+/// search (an optimum on the edge of a search range is no optimum; common practice is to widen
+/// the range and search again). One note per such input, naming the keys to raise.
+pub fn structure_notes(
+    terms: &[Term],
+    max_lag: &[usize],
+    tags: &[&str],
+    sample_time: Span,
+) -> Vec<String> {
+    let mut notes = Vec::new();
+    for (j, (&limit, tag)) in max_lag.iter().zip(tags).enumerate() {
+        let longest = terms
+            .iter()
+            .filter_map(|t| match *t {
+                Term::Input { input, lag } if input == j => Some(lag),
+                _ => None,
+            })
+            .max();
+        if limit > 0 && longest == Some(limit) {
+            let span = Span::from_micros(sample_time.micros().saturating_mul(limit as i64));
+            notes.push(format!(
+                "{tag}: the chosen delay, {limit} samples ({span}), is the longest searched; a longer dead time or a slower response may fit better: raise `structure.max-lag` or this input's `max-lag` and build again"
+            ));
+        }
+    }
+    notes
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn a_delay_on_the_search_limit_gets_a_note() {
+        let terms = [
+            Term::Input { input: 0, lag: 3 },
+            Term::Input { input: 0, lag: 30 },
+            Term::Input { input: 1, lag: 29 },
+            Term::Output { lag: 2 },
+        ];
+        let notes = structure_notes(
+            &terms,
+            &[30, 30, 30],
+            &["TI-1", "TI-2", "TI-3"],
+            Span::from_secs(30),
+        );
+        assert_eq!(notes.len(), 1, "{notes:?}");
+        assert!(
+            notes[0].starts_with("TI-1: the chosen delay, 30 samples (15min)"),
+            "{}",
+            notes[0]
+        );
+        assert!(notes[0].contains("`structure.max-lag`"));
+        // No search (limit 0) is no limit reached.
+        assert!(structure_notes(
+            &[Term::Input { input: 0, lag: 0 }],
+            &[0],
+            &["TI-1"],
+            Span::from_secs(60)
+        )
+        .is_empty());
+    }
 
     #[test]
     fn metrics_of_a_known_error() {

@@ -38,6 +38,8 @@ pub struct Summary {
     pub training_rows: usize,
     /// Output-error refinement applied and kept.
     pub refined: bool,
+    /// Advice on the result (e.g. a delay on the search limit); empty when there is none.
+    pub notes: Vec<String>,
 }
 
 /// Model metrics on the test block.
@@ -104,6 +106,7 @@ pub fn summary(b: &Built, seed: u64) -> Summary {
         test_start: Rfc3339(b.prepared.dataset.time(b.test_start)).to_string(),
         training_rows: b.training_rows,
         refined: b.refined,
+        notes: b.notes.clone(),
     }
 }
 

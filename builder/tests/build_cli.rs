@@ -45,6 +45,7 @@ fn demo_build_writes_everything_and_beats_the_linear_model() {
     for key in ["regime_count", "regressors", "seed", "builder_version"] {
         assert!(!summary[key].is_null(), "{key}");
     }
+    assert!(summary["notes"].is_array(), "notes");
     for key in ["rmse", "mae", "r2", "bias", "out_of_domain_fraction"] {
         assert!(summary["test"][key].is_number(), "test.{key}");
     }
@@ -332,6 +333,39 @@ fn a_plant_with_output_lags_simulates_as_fitted() {
             .expect("json");
     let r2 = summary["test"]["r2"].as_f64().expect("r2");
     assert!(r2 > 0.99, "free-run test R² {r2}");
+}
+
+/// The small plant responds to X1 over about ten samples (y(k) = 0.9·y(k−1) + …). Searched only
+/// two samples back without output lags, the best delay sits on the search limit: the build
+/// says so on stdout, in `summary.json` and in the report.
+#[test]
+fn a_delay_on_the_search_limit_is_pointed_out() {
+    let dir = tempfile::tempdir().expect("tempdir");
+    small_plant(dir.path(), |_, _| {});
+    let config = SMALL.replace(
+        "structure: { max-lag: 5min }",
+        "structure: { max-lag: 2min, max-output-lag: 0 }",
+    );
+    write(dir.path(), "c.yaml", &config);
+    let r = regimix(dir.path(), &["build", "c.yaml", "--out", "o"]);
+    assert!(r.status.success(), "{}", String::from_utf8_lossy(&r.stderr));
+    let stdout = String::from_utf8_lossy(&r.stdout);
+    assert!(
+        stdout.contains("note: X1: the chosen delay, 2 samples (2min), is the longest searched"),
+        "{stdout}"
+    );
+    let summary: serde_json::Value =
+        serde_json::from_slice(&std::fs::read(dir.path().join("o/summary.json")).expect("summary"))
+            .expect("json");
+    let notes = summary["notes"].as_array().expect("notes");
+    assert!(
+        notes
+            .iter()
+            .any(|n| n.as_str().is_some_and(|n| n.starts_with("X1: "))),
+        "{notes:?}"
+    );
+    let report = std::fs::read_to_string(dir.path().join("o/report.html")).expect("report");
+    assert!(report.contains("X1: the chosen delay, 2 samples"), "report");
 }
 
 #[test]

@@ -53,6 +53,9 @@ pub fn run(config_path: &Path, out: &Path, quiet: bool) -> anyhow::Result<()> {
         s.test.r2,
         100.0 * s.test.out_of_domain_fraction
     );
+    for note in &s.notes {
+        println!("note: {note}");
+    }
     println!(
         "wrote {}/{{model.rgmx, model.yaml, report.html, validation.csv, summary.json}} in {:.1} s",
         out.display(),

@@ -338,6 +338,13 @@ pub fn report_html(b: &Built, config: &Config, s: &Summary) -> String {
         );
     }
     h.push_str("</table>");
+    if !b.notes.is_empty() {
+        h.push_str("<ul class=\"notes\">");
+        for note in &b.notes {
+            let _ = write!(h, "<li>{}</li>", esc(note));
+        }
+        h.push_str("</ul>");
+    }
 
     // Out-of-domain periods.
     h.push_str("<h2 id=\"domain\">Out-of-domain periods</h2>");
