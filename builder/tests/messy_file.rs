@@ -465,3 +465,43 @@ fn day_first_and_month_first_exports_read_alike_with_date_order() {
         assert_eq!(read.audit.warnings, iso.audit.warnings, "{order}");
     }
 }
+
+/// A tag name longer than the usual column keeps the `check` table aligned: every row's role
+/// starts under the header's `role`.
+#[test]
+fn a_long_tag_name_keeps_the_check_table_aligned() {
+    let dir = tempfile::tempdir().expect("tempdir");
+    let long = "TI-B tray 12 outlet temperature";
+    write(
+        dir.path(),
+        "messy.csv",
+        &messy_csv().replacen("TI-B", long, 1),
+    );
+    write(
+        dir.path(),
+        "c.yaml",
+        &CONFIG.replace("tag: TI-B", &format!("tag: {long}")),
+    );
+    let r = regimix(dir.path(), &["check", "c.yaml"]);
+    let text = String::from_utf8_lossy(&r.stdout);
+    let header = text
+        .lines()
+        .find(|l| l.starts_with("  tag "))
+        .expect("tags header");
+    let column = header.find("role").expect("role column");
+    let rows: Vec<&str> = text
+        .lines()
+        .skip_while(|l| !l.starts_with("  tag "))
+        .skip(1)
+        .take_while(|l| !l.is_empty())
+        .collect();
+    assert_eq!(rows.len(), 3, "{text}");
+    for row in rows {
+        let role = row
+            .find(" input ")
+            .or_else(|| row.find(" target "))
+            .expect("role")
+            + 1;
+        assert_eq!(role, column, "{row}\n{header}");
+    }
+}

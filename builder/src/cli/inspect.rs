@@ -185,10 +185,18 @@ pub fn run(path: &Path, json: bool) -> anyhow::Result<()> {
         8 * s.state_words,
         4 * s.state_words
     );
+    // The tag column fits the longest tag name.
+    let w = s
+        .inputs
+        .iter()
+        .map(|i| i.tag.chars().count())
+        .max()
+        .unwrap_or(0)
+        .max(16);
     println!("\nInputs");
     for i in &s.inputs {
         println!(
-            "  {:<16} [{}]  valid {} … {}, training mean {:.4} sd {:.4}",
+            "  {:<w$} [{}]  valid {} … {}, training mean {:.4} sd {:.4}",
             i.tag, i.unit, i.low, i.high, i.mean, i.std
         );
     }
@@ -218,7 +226,7 @@ pub fn run(path: &Path, json: bool) -> anyhow::Result<()> {
                 continue;
             }
             println!(
-                "  {:<16} gain {:>12.5} {} per {}  dead time {:>9}  time constant {:>9}",
+                "  {:<w$} gain {:>12.5} {} per {}  dead time {:>9}  time constant {:>9}",
                 i.tag,
                 i.gain,
                 s.target_unit,

@@ -589,9 +589,17 @@ impl fmt::Display for Audit {
         )?;
         writeln!(f)?;
         writeln!(f, "Tags")?;
+        // The tag column fits the longest tag name.
+        let w = self
+            .tags
+            .iter()
+            .map(|t| t.tag.chars().count())
+            .max()
+            .unwrap_or(0)
+            .max(16);
         writeln!(
             f,
-            "  {:<16} {:<7} {:>8} {:>7} {:>7} {:>7} {:>6} {:>6}  {:>11} {:>11} {:>11}  unit",
+            "  {:<w$} {:<7} {:>8} {:>7} {:>7} {:>7} {:>6} {:>6}  {:>11} {:>11} {:>11}  unit",
             "tag",
             "role",
             "rows",
@@ -609,7 +617,7 @@ impl fmt::Display for Audit {
             let frozen: usize = t.frozen.iter().map(|p| p.samples).sum();
             writeln!(
                 f,
-                "  {:<16} {:<7} {:>8} {:>7.1} {:>7} {:>7} {:>6} {:>6}  {:>11} {:>11} {:>11}  {}",
+                "  {:<w$} {:<7} {:>8} {:>7.1} {:>7} {:>7} {:>6} {:>6}  {:>11} {:>11} {:>11}  {}",
                 t.tag,
                 t.role,
                 t.rows,
@@ -646,7 +654,7 @@ impl fmt::Display for Audit {
                         texts.len() - MARKER_TEXTS
                     ));
                 }
-                writeln!(f, "  {:<16} {}", t.tag, list.join(", "))?;
+                writeln!(f, "  {:<w$} {}", t.tag, list.join(", "))?;
             }
         }
         let frozen: Vec<(&str, &Period)> = self
@@ -660,7 +668,7 @@ impl fmt::Display for Audit {
             for (tag, p) in frozen {
                 writeln!(
                     f,
-                    "  {:<16} from {} for {} ({} samples)",
+                    "  {:<w$} from {} for {} ({} samples)",
                     tag, p.start, p.duration, p.samples
                 )?;
             }
