@@ -9,7 +9,9 @@ use regimix_runtime::{state_words, Estimator, Status};
 
 use crate::config::TimestampColumns;
 use crate::error::DataError;
-use crate::prepare::historian::{csv_error, open_csv, read_file, Observation, RawColumn, ReadSpec};
+use crate::prepare::historian::{
+    csv_error, open_csv, parse_number, read_file, Observation, RawColumn, ReadSpec,
+};
 use crate::prepare::text::windows_1252;
 use crate::timestamp::{DateOrder, Micros, Rfc3339};
 
@@ -111,14 +113,39 @@ impl Default for CsvForm {
     }
 }
 
+/// A replay CSV as read: one step per row.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Inputs {
+    /// Row times.
+    pub times: Vec<Micros>,
+    /// The model's inputs per row, in model order; NaN where a cell held no value.
+    pub rows: Vec<Vec<f64>>,
+    /// Inputs with cells of text rather than numbers, in model order.
+    pub text: Vec<TextCells>,
+}
+
+/// Cells of one input that held text, not a number (the runtime treats them as invalid).
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct TextCells {
+    /// The input's tag.
+    pub tag: String,
+    /// Cells of text.
+    pub cells: u64,
+    /// The most frequent text (the first in order among equals).
+    pub example: String,
+    /// Some text reads as a number with the other decimal mark (`2,019` read with `.`): the
+    /// decimal mark is likely set wrong.
+    pub other_decimal_mark: bool,
+}
+
 /// Reads a CSV for replay: the timestamp column(s) (default: the first column) and the model's
 /// input tags, one step per row. Quality markers, below-limit readings and blanks become NaN (the
-/// runtime substitutes them).
+/// runtime substitutes them); cells of text are counted per input.
 pub fn read_inputs(
     path: &Path,
     model: &ModelView<'_>,
     form: &CsvForm,
-) -> Result<(Vec<Micros>, Vec<Vec<f64>>), DataError> {
+) -> Result<Inputs, DataError> {
     let timestamp = match &form.timestamp {
         Some(t) => t.clone(),
         None => TimestampColumns::One(first_column(path, form.delimiter)?),
@@ -143,7 +170,31 @@ pub fn read_inputs(
     let rows = (0..table.times.len())
         .map(|k| table.columns.iter().map(|c| value(c, k)).collect())
         .collect();
-    Ok((table.times, rows))
+    let text = table
+        .columns
+        .iter()
+        .filter_map(|c| {
+            let cells: u64 = c.markers.values().sum();
+            let (example, _) = c
+                .markers
+                .iter()
+                .max_by(|a, b| a.1.cmp(b.1).then(b.0.cmp(a.0)))?;
+            Some(TextCells {
+                tag: c.name.clone(),
+                cells,
+                example: example.clone(),
+                other_decimal_mark: c
+                    .markers
+                    .keys()
+                    .any(|t| parse_number(t, !form.decimal_comma).is_some_and(f64::is_finite)),
+            })
+        })
+        .collect();
+    Ok(Inputs {
+        times: table.times,
+        rows,
+        text,
+    })
 }
 
 fn first_column(path: &Path, delimiter: u8) -> Result<String, DataError> {

@@ -193,7 +193,61 @@ fn replay_reads_day_and_month_first_dates_with_date_order() {
         assert_eq!(out.stdout, iso.stdout, "{order}");
     }
     let out = regimix(dir.path(), &["replay", &model, "dmy.csv"]);
-    assert_clean_failure(&out, "day or month first");
+    assert_clean_failure(&out, "day or month first: pass `--date-order dmy`");
+}
+
+/// replay's hints name its options, not config keys: a `;` file read with `,` names
+/// `--delimiter`, and decimal-comma numbers read with `.` (every cell text, every estimate a
+/// fallback) give a warning per input that names `--decimal-mark ,`.
+#[test]
+fn replay_hints_name_its_options() {
+    let dir = tempfile::tempdir().expect("tempdir");
+    let model = tiny_model();
+    write(
+        dir.path(),
+        "semi.csv",
+        "time;TI-1\n2026-03-02 12:59:00;101,5\n2026-03-02 13:00:00;99,0\n2026-03-02 13:01:00;Bad\n",
+    );
+    let out = regimix(dir.path(), &["replay", &model, "semi.csv"]);
+    assert_clean_failure(&out, "so pass `--delimiter ';'`");
+    let out = regimix(
+        dir.path(),
+        &["replay", &model, "semi.csv", "--delimiter", ";"],
+    );
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let stderr = String::from_utf8_lossy(&out.stderr);
+    assert!(
+        stderr.contains("warning: TI-1: 3 of 3 cells are text, not numbers")
+            && stderr.contains("pass `--decimal-mark ,`"),
+        "{stderr}"
+    );
+    let out = regimix(
+        dir.path(),
+        &[
+            "replay",
+            &model,
+            "semi.csv",
+            "--delimiter",
+            ";",
+            "--decimal-mark",
+            ",",
+        ],
+    );
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let stderr = String::from_utf8_lossy(&out.stderr);
+    assert!(
+        stderr.contains("warning: TI-1: 1 of 3 cells are text, not numbers (most often `Bad`)")
+            && !stderr.contains("--decimal-mark"),
+        "{stderr}"
+    );
 }
 
 /// `replay --naive-offset` reads timestamps without an offset as local time at that offset (the

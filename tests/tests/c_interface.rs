@@ -89,7 +89,8 @@ fn c_example_reproduces_the_rust_replay() {
 
     let bytes = std::fs::read(&model_path).expect("model");
     let model = ModelView::parse(&bytes).expect("valid");
-    let (times, rows) = read_inputs(&data, &model, &CsvForm::default()).expect("inputs");
+    let inputs = read_inputs(&data, &model, &CsvForm::default()).expect("inputs");
+    let (times, rows) = (inputs.times, inputs.rows);
     let rust = replay(&bytes, &times, &rows).expect("replay");
     assert_eq!(c_rows.len(), rust.len());
     let mut flagged = 0;

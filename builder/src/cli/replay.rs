@@ -5,7 +5,7 @@ use std::path::Path;
 use anyhow::Context;
 use regimix_builder::config::TimestampColumns;
 use regimix_builder::output::write_atomic;
-use regimix_builder::replay::{read_inputs, replay, to_csv, CsvForm};
+use regimix_builder::replay::{read_inputs, replay, to_csv, CsvForm, TextCells};
 use regimix_builder::timestamp::{parse_offset, DateOrder};
 use regimix_format::ModelView;
 
@@ -48,6 +48,42 @@ pub fn csv_form(
     })
 }
 
+/// The reader's hints name config keys (`delimiter: ";"`, `date-order`); replay takes the same
+/// settings as options, so its messages name those instead.
+fn as_options(message: &str) -> String {
+    let mut text = message.replace(
+        "set `date-order` to `dmy` or `mdy`",
+        "pass `--date-order dmy` or `--date-order mdy`",
+    );
+    while let Some(start) = text.find("set `delimiter: \"") {
+        let rest = &text[start + "set `delimiter: \"".len()..];
+        let Some(end) = rest.find("\"`") else {
+            break;
+        };
+        let written = &rest[..end];
+        let option = format!("pass `--delimiter '{written}'`");
+        let whole = start + "set `delimiter: \"".len() + end + "\"`".len();
+        text.replace_range(start..whole, &option);
+    }
+    text
+}
+
+/// One line on stderr for an input with cells of text: how many, the most frequent, and the
+/// option to pass when they are numbers with the other decimal mark.
+fn text_warning(t: &TextCells, decimal_comma: bool, rows: usize) -> String {
+    let mut line = format!(
+        "warning: {}: {} of {rows} cells are text, not numbers (most often `{}`); the runtime treats them as invalid inputs",
+        t.tag, t.cells, t.example
+    );
+    if t.other_decimal_mark {
+        let other = if decimal_comma { '.' } else { ',' };
+        line.push_str(&format!(
+            "; some read as numbers with a decimal `{other}`: pass `--decimal-mark {other}`"
+        ));
+    }
+    line
+}
+
 /// Replays `data` through the model and writes the estimates (stdout without `--out`).
 pub fn run(
     model_path: &Path,
@@ -58,9 +94,16 @@ pub fn run(
     let bytes = std::fs::read(model_path)
         .with_context(|| format!("cannot read model {}", model_path.display()))?;
     let model = ModelView::parse(&bytes).with_context(|| format!("{}", model_path.display()))?;
-    let (times, rows) = read_inputs(data, &model, form)?;
-    let replayed =
-        replay(&bytes, &times, &rows).with_context(|| format!("{}", model_path.display()))?;
+    let inputs = read_inputs(data, &model, form)
+        .map_err(|e| anyhow::anyhow!(as_options(&format!("{:#}", anyhow::Error::from(e)))))?;
+    let replayed = replay(&bytes, &inputs.times, &inputs.rows)
+        .with_context(|| format!("{}", model_path.display()))?;
+    for t in &inputs.text {
+        eprintln!(
+            "{}",
+            text_warning(t, form.decimal_comma, inputs.times.len())
+        );
+    }
     let text = to_csv(&replayed, model.n_regimes());
     match out {
         Some(path) => {
@@ -70,4 +113,22 @@ pub fn run(
         None => super::print_out(&text)?,
     }
     Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::as_options;
+
+    #[test]
+    fn config_hints_become_options() {
+        assert_eq!(
+            as_options("x.csv:1: no column `A`; … separated by `;`, so set `delimiter: \";\"`"),
+            "x.csv:1: no column `A`; … separated by `;`, so pass `--delimiter ';'`"
+        );
+        assert_eq!(
+            as_options("`3/1/2026` is not a timestamp (day or month first: set `date-order` to `dmy` or `mdy`)"),
+            "`3/1/2026` is not a timestamp (day or month first: pass `--date-order dmy` or `--date-order mdy`)"
+        );
+        assert_eq!(as_options("no hint here"), "no hint here");
+    }
 }
