@@ -121,6 +121,18 @@ fn check_reports_each_defect_exactly() {
         .warnings
         .iter()
         .any(|w| w.contains("TI-B: frozen for 80min")));
+    // Counts of one read in the singular.
+    for expected in [
+        "TI-A: 1 spike removed by the Hampel filter",
+        "TI-A: 1 value outside the configured range",
+        "TI-A: 6 cells with quality markers",
+    ] {
+        assert!(
+            audit.warnings.iter().any(|w| w.starts_with(expected)),
+            "{expected}: {:?}",
+            audit.warnings
+        );
+    }
 }
 
 #[test]

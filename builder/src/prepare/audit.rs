@@ -348,8 +348,8 @@ fn warnings(config: &Config, audit: &Audit, median: Option<i64>) -> Vec<String> 
     }
     if audit.duplicate_rows > 0 {
         out.push(format!(
-            "{} rows share a timestamp with another row; for each tag the last value was kept",
-            audit.duplicate_rows
+            "{} repeated the timestamp of another row; for each tag the last value was kept",
+            counted(audit.duplicate_rows as u64, "row", "rows")
         ));
     }
     for tag in &audit.tags {
@@ -370,7 +370,8 @@ fn warnings(config: &Config, audit: &Audit, median: Option<i64>) -> Vec<String> 
         if marker_total > 0 {
             let kinds: Vec<&str> = tag.markers.keys().map(String::as_str).take(4).collect();
             out.push(format!(
-                "{name}: {marker_total} cells carry quality markers ({})",
+                "{name}: {} with quality markers ({})",
+                counted(marker_total, "cell", "cells"),
                 kinds.join(", ")
             ));
             // Numbers written with the other decimal mark read as text: say so.
@@ -405,14 +406,14 @@ fn warnings(config: &Config, audit: &Audit, median: Option<i64>) -> Vec<String> 
         below_limit_warnings(config, tag, &mut out);
         if tag.out_of_range > 0 {
             out.push(format!(
-                "{name}: {} values outside the configured range",
-                tag.out_of_range
+                "{name}: {} outside the configured range",
+                counted(tag.out_of_range as u64, "value", "values")
             ));
         }
         if tag.spikes > 0 {
             out.push(format!(
-                "{name}: {} spikes removed by the Hampel filter",
-                tag.spikes
+                "{name}: {} removed by the Hampel filter",
+                counted(tag.spikes as u64, "spike", "spikes")
             ));
         }
         if tag.outside_transform > 0 {
@@ -458,18 +459,23 @@ fn warnings(config: &Config, audit: &Audit, median: Option<i64>) -> Vec<String> 
     if let Some(lab) = &audit.target.lab {
         if lab.outside_span > 0 {
             out.push(format!(
-                "{} lab results fall outside the time span of the process data and were not used",
-                lab.outside_span
+                "{} outside the time span of the process data, not used",
+                counted(lab.outside_span as u64, "lab result", "lab results")
             ));
         }
         if lab.same_row > 0 {
             out.push(format!(
-                "{} lab results share a sample-time row with a later one; the later result was kept",
-                lab.same_row
+                "{} on the same sample-time row as a later one; the later result was kept",
+                counted(lab.same_row as u64, "lab result", "lab results")
             ));
         }
     }
     out
+}
+
+/// `n` and the noun in the number it takes: `1 cell`, `2 cells`.
+fn counted(n: u64, one: &str, many: &str) -> String {
+    format!("{n} {}", if n == 1 { one } else { many })
 }
 
 /// Above this share of below-limit results, a substituted value shapes the low end of the fit
@@ -503,8 +509,8 @@ fn below_limit_warnings(config: &Config, tag: &TagAudit, out: &mut Vec<String>) 
         _ => "the limit",
     };
     out.push(format!(
-        "{name}: {} results below a detection limit were used as {what}",
-        tag.below_limit_used
+        "{name}: {} below a detection limit used as {what}",
+        counted(tag.below_limit_used as u64, "result", "results")
     ));
     if share > SUBSTITUTION_SHARE {
         out.push(format!(
