@@ -547,7 +547,7 @@ pub fn build(config: &Config, progress: &dyn Fn(&str)) -> Result<Built, BuildErr
                 .collect::<Vec<_>>(),
         )
     };
-    let notes = structure_notes(
+    let mut notes = structure_notes(
         &terms,
         &m.max_lag,
         &config
@@ -557,6 +557,7 @@ pub fn build(config: &Config, progress: &dyn Fn(&str)) -> Result<Built, BuildErr
             .collect::<Vec<_>>(),
         config.sample_time,
     );
+    notes.extend(accuracy_note(&test, &baseline));
     Ok(Built {
         prepared: prepared.clone(),
         spec,
@@ -576,6 +577,17 @@ pub fn build(config: &Config, progress: &dyn Fn(&str)) -> Result<Built, BuildErr
         clustering_rows: rows.len(),
         refined,
         notes,
+    })
+}
+
+/// A note when the blend is no more accurate than the global linear model on the test block.
+pub fn accuracy_note(test: &Metrics, baseline: &Metrics) -> Option<String> {
+    let ratio = test.rmse / baseline.rmse;
+    (ratio >= 1.0).then(|| {
+        format!(
+            "the test RMSE is {ratio:.2}× the global linear model's on {} test samples: the regimes do not improve on a linear model here; more data over a wider operating range, fewer regimes (`regimes.count`) or other regime variables may help",
+            test.samples
+        )
     })
 }
 
@@ -640,6 +652,18 @@ mod tests {
             Span::from_secs(60)
         )
         .is_empty());
+    }
+
+    #[test]
+    fn no_gain_over_the_linear_model_gets_a_note() {
+        let worse = metrics(&[(1.0, 2.0), (3.0, 3.0)]);
+        let better = metrics(&[(1.0, 1.5), (3.0, 3.0)]);
+        let note = accuracy_note(&worse, &better).expect("note");
+        assert!(
+            note.starts_with("the test RMSE is 2.00× the global linear model's on 2 test samples"),
+            "{note}"
+        );
+        assert!(accuracy_note(&better, &worse).is_none());
     }
 
     #[test]

@@ -86,6 +86,13 @@ pub fn report_html(b: &Built, config: &Config, s: &Summary) -> String {
         s.rmse_ratio,
         100.0 * s.test.out_of_domain_fraction
     );
+    if !b.notes.is_empty() {
+        h.push_str("<p>Notes from the build:</p><ul class=\"notes\">");
+        for note in &b.notes {
+            let _ = write!(h, "<li>{}</li>", esc(note));
+        }
+        h.push_str("</ul>");
+    }
 
     // Measured vs estimated on the test block.
     let test_rows: Vec<usize> = (b.test_start..ds.grid.len).collect();
@@ -338,13 +345,6 @@ pub fn report_html(b: &Built, config: &Config, s: &Summary) -> String {
         );
     }
     h.push_str("</table>");
-    if !b.notes.is_empty() {
-        h.push_str("<ul class=\"notes\">");
-        for note in &b.notes {
-            let _ = write!(h, "<li>{}</li>", esc(note));
-        }
-        h.push_str("</ul>");
-    }
 
     // Out-of-domain periods.
     h.push_str("<h2 id=\"domain\">Out-of-domain periods</h2>");
