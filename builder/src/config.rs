@@ -529,10 +529,28 @@ pub struct TargetSpec {
 /// Checked screening settings.
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
 pub struct Screening {
-    /// Hampel half-window in grid samples.
-    pub spike_half_window: usize,
+    /// Hampel half-window, in time (at least one sample-time); `None`: 15 observations.
+    pub spike_half_window: Option<Span>,
     /// Hampel threshold in robust standard deviations.
     pub spike_threshold: f64,
+}
+
+/// Hampel half-window in observations when `screening.spike-half-window` is not set.
+pub const DEFAULT_HALF_WINDOW: usize = 15;
+
+impl Screening {
+    /// The Hampel half-window in observations for rows that come every `raw_spacing` on a grid
+    /// of `sample_time`: the window counts observations (a held value once), so it is sized by
+    /// the slower of the two; a grid finer than the rows would otherwise stretch it in time.
+    pub fn half_window_observations(&self, sample_time: Span, raw_spacing: Option<Span>) -> usize {
+        let Some(half) = self.spike_half_window else {
+            return DEFAULT_HALF_WINDOW;
+        };
+        let step = raw_spacing.map_or(sample_time.micros(), |r| {
+            r.micros().max(sample_time.micros())
+        });
+        (half.micros() / step.max(1)).max(1) as usize
+    }
 }
 
 /// Checked modelling settings.
@@ -654,12 +672,8 @@ impl RawConfig {
             .screening
             .frozen_after
             .unwrap_or(Span::from_secs(2 * 3600));
-        let half = self
-            .screening
-            .spike_half_window
-            .unwrap_or(Span::from_micros(15 * ts.micros()));
-        let spike_half_window = half.whole_steps(ts) as usize;
-        if spike_half_window < 1 {
+        let half = self.screening.spike_half_window;
+        if let Some(half) = half.filter(|h| h.whole_steps(ts) < 1) {
             return Err(invalid(
                 "screening.spike-half-window",
                 format!("{half} is shorter than one sample-time ({ts})"),
@@ -860,7 +874,7 @@ impl RawConfig {
             sample_time: ts,
             hold_limit,
             screening: Screening {
-                spike_half_window,
+                spike_half_window: half,
                 spike_threshold,
             },
             target: TargetSpec {
@@ -1173,7 +1187,22 @@ inputs:
         assert!(!c.decimal_comma);
         assert_eq!(c.sample_time, Span::from_secs(60));
         assert_eq!(c.hold_limit, Span::from_secs(180));
-        assert_eq!(c.screening.spike_half_window, 15);
+        // Unset: 15 observations whatever the rows' spacing.
+        assert_eq!(c.screening.spike_half_window, None);
+        let minute = Span::from_secs(60);
+        for raw in [None, Some(Span::from_secs(10)), Some(Span::from_secs(300))] {
+            assert_eq!(c.screening.half_window_observations(minute, raw), 15);
+        }
+        // Set in time: divided by the sample time, or by the rows' spacing when they are slower.
+        let set = Screening {
+            spike_half_window: Some(Span::from_secs(15 * 60)),
+            spike_threshold: 5.0,
+        };
+        let half = |raw| set.half_window_observations(minute, raw);
+        assert_eq!(half(None), 15);
+        assert_eq!(half(Some(Span::from_secs(10))), 15);
+        assert_eq!(half(Some(Span::from_secs(300))), 3);
+        assert_eq!(half(Some(Span::from_secs(7200))), 1);
         assert_eq!(c.screening.spike_threshold, 5.0);
         assert_eq!(c.inputs[0].frozen_after, Span::from_secs(7200));
         assert_eq!(c.inputs[0].range, Some((0.0, 200.0)));

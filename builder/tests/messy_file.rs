@@ -517,3 +517,54 @@ fn a_long_tag_name_keeps_the_check_table_aligned() {
         assert_eq!(role, column, "{row}\n{header}");
     }
 }
+
+/// A grid finer than the rows (20 s against 1-minute rows) holds each row over three samples;
+/// the Hampel window, which counts observations, is then sized by the rows, so the same
+/// observations are flagged as on the 1-minute grid (each over its three samples). Sized by the
+/// grid instead, a 15-minute half-window would reach 45 rows each side, and a 20-minute plateau in TI-B (a
+/// real move, longer than the 15-row half-window) would be flagged as spikes.
+#[test]
+fn a_grid_finer_than_the_rows_flags_the_same_spikes() {
+    let dir = tempfile::tempdir().expect("tempdir");
+    let csv = messy_csv()
+        .lines()
+        .enumerate()
+        .map(|(i, line)| {
+            let mut fields: Vec<String> = line.split(',').map(str::to_string).collect();
+            // Data lines 41..=60 hold rows 40..=59 (row 10 and 11 are doubled before them).
+            if (43..63).contains(&i) {
+                let b: f64 = fields[2].parse().expect("TI-B");
+                fields[2] = format!("{:.4}", b + 5.0);
+            }
+            fields.join(",") + "\n"
+        })
+        .collect::<String>();
+    write(dir.path(), "messy.csv", &csv);
+    let config = CONFIG.replace(
+        "  frozen-after: 1h",
+        "  frozen-after: 1h\n  spike-half-window: 15min",
+    );
+    let minute = write(dir.path(), "c.yaml", &config);
+    let fine = write(
+        dir.path(),
+        "fine.yaml",
+        &config.replace("sample-time: 1min", "sample-time: 20s"),
+    );
+    let spikes = |path| {
+        let prepared = prepare(&Config::load(path).expect("config")).expect("prepare");
+        prepared
+            .audit
+            .tags
+            .iter()
+            .map(|t| t.spikes)
+            .collect::<Vec<_>>()
+    };
+    let at_minute = spikes(&minute);
+    assert_eq!(at_minute[1], 0, "the plateau is not a spike");
+    let at_20s = spikes(&fine);
+    assert_eq!(
+        at_20s,
+        at_minute.iter().map(|s| 3 * s).collect::<Vec<_>>(),
+        "1 min: {at_minute:?}"
+    );
+}

@@ -15,6 +15,7 @@ use ndarray::Array2;
 use regimix_format::transform::Transform;
 
 use crate::config::{Config, TagSpec, TransformKind};
+use crate::duration::Span;
 use crate::error::DataError;
 use crate::timestamp::Micros;
 use audit::{Audit, TagAudit};
@@ -125,6 +126,21 @@ pub struct Prepared {
     pub audit: Audit,
 }
 
+/// Median spacing of consecutive rows (`None` with fewer than two distinct times).
+fn median_spacing(times: &[Micros]) -> Option<Span> {
+    let mut gaps: Vec<i64> = times
+        .windows(2)
+        .map(|w| w[1] - w[0])
+        .filter(|&g| g > 0)
+        .collect();
+    if gaps.is_empty() {
+        return None;
+    }
+    let middle = (gaps.len() - 1) / 2;
+    let (_, &mut median, _) = gaps.select_nth_unstable(middle);
+    Some(Span::from_micros(median))
+}
+
 /// Screens one resampled tag and returns its audit entry. Spikes are looked for in the model
 /// domain (`transform`): for a log-transformed impurity the noise is proportional to the level,
 /// so a Hampel filter on raw values would flag every fast rise.
@@ -138,10 +154,11 @@ fn screen_tag(
     config: &Config,
     grid: &Grid,
     transform: Transform,
+    half_window: usize,
 ) -> TagAudit {
     let frozen_steps = spec.frozen_after.whole_steps(config.sample_time) as usize;
     let frozen = screen::mark_frozen(series, spec.resolution, frozen_steps);
-    let half = config.screening.spike_half_window;
+    let half = half_window;
     let threshold = config.screening.spike_threshold;
     let spikes = if transform == Transform::Identity {
         screen::mark_spikes(series, half, threshold, spec.resolution)
@@ -221,6 +238,9 @@ pub fn prepare(config: &Config) -> Result<Prepared, DataError> {
         });
     }
     let hold = config.hold_limit.micros();
+    let half_window = config
+        .screening
+        .half_window_observations(config.sample_time, median_spacing(&table.times));
     let transform = transform_of(config);
     let p = config.inputs.len();
     let mut inputs = Array2::from_elem((grid.len, p), f64::NAN);
@@ -239,6 +259,7 @@ pub fn prepare(config: &Config) -> Result<Prepared, DataError> {
             config,
             &grid,
             Transform::Identity,
+            half_window,
         ));
         inputs
             .column_mut(j)
@@ -262,6 +283,7 @@ pub fn prepare(config: &Config) -> Result<Prepared, DataError> {
             config,
             &grid,
             transform,
+            half_window,
         );
         let shift = config.target.dead_time.whole_steps(config.sample_time) as usize;
         (target::remove_dead_time(series, shift), audit, None)
