@@ -568,3 +568,54 @@ fn a_grid_finer_than_the_rows_flags_the_same_spikes() {
         "1 min: {at_minute:?}"
     );
 }
+
+/// An export that writes a tag only when it changes (a compressing historian) leaves most of its
+/// cells empty: `check` says so and names `hold-limit`; with the hold limit raised past the
+/// longest interval between records, every sample has a value and the warning goes.
+#[test]
+fn a_tag_written_only_on_change_points_to_the_hold_limit() {
+    let dir = tempfile::tempdir().expect("tempdir");
+    let mut rng = Lcg(5);
+    let mut csv = String::from("time,TI-A,TI-B,AI-1\n");
+    for k in 0..300usize {
+        let b = if k % 10 == 0 {
+            format!("{:.3}", 80.0 + rng.next())
+        } else {
+            String::new()
+        };
+        csv.push_str(&format!(
+            "{},{:.3},{b},{:.4}\n",
+            stamp(k),
+            100.0 + rng.next(),
+            1.0 + 0.01 * rng.next()
+        ));
+    }
+    write(dir.path(), "messy.csv", &csv);
+    let cfg = write(dir.path(), "c.yaml", CONFIG);
+    let audit = prepare(&Config::load(&cfg).expect("config"))
+        .expect("prepare")
+        .audit;
+    assert!(
+        audit
+            .warnings
+            .iter()
+            .any(|w| w.starts_with("TI-B: a value in only 30 of 300 rows")
+                && w.contains("within `hold-limit` (3min)")),
+        "{:?}",
+        audit.warnings
+    );
+    let cfg = write(
+        dir.path(),
+        "c.yaml",
+        &CONFIG.replace("hold-limit: 3min", "hold-limit: 10min"),
+    );
+    let audit = prepare(&Config::load(&cfg).expect("config"))
+        .expect("prepare")
+        .audit;
+    assert_eq!(audit.tags[1].valid_percent, 100.0);
+    assert!(
+        !audit.warnings.iter().any(|w| w.contains("hold-limit")),
+        "{:?}",
+        audit.warnings
+    );
+}

@@ -354,7 +354,18 @@ fn warnings(config: &Config, audit: &Audit, median: Option<i64>) -> Vec<String> 
     }
     for tag in &audit.tags {
         let name = &tag.tag;
-        if tag.role == "input" && tag.valid_percent < 80.0 {
+        // A historian that records on change writes a tag only now and then: most rows leave
+        // its cell empty, and samples beyond the hold limit after a record have no value.
+        let sparse = tag.observations * 2 < tag.rows;
+        if tag.role == "input" && tag.valid_percent < 80.0 && sparse {
+            out.push(format!(
+                "{name}: a value in only {} of {} rows, so {:.1} % of samples have none within `hold-limit` ({}): if the historian records on change (compression), set `hold-limit` to its longest interval between records (often 10 min to 1 h), or export values at a fixed interval",
+                tag.observations,
+                tag.rows,
+                100.0 - tag.valid_percent,
+                config.hold_limit
+            ));
+        } else if tag.role == "input" && tag.valid_percent < 80.0 {
             out.push(format!(
                 "{name}: only {:.1} % of samples are usable (gaps, quality markers, frozen values, spikes or out of range)",
                 tag.valid_percent
