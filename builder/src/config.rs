@@ -269,6 +269,20 @@ pub struct RawData {
     /// How dates not starting with the year are read: `ymd` (none accepted), `dmy` or `mdy`.
     #[serde(default)]
     pub date_order: DateOrder,
+    /// One row per tag and time (a long-format export) instead of one column per tag.
+    #[serde(default)]
+    pub long_format: Option<LongFormat>,
+}
+
+/// Where a long-format export (one row per tag and time, as many historians write a query
+/// result) holds the tag's name and its value.
+#[derive(Debug, Clone, PartialEq, Eq, Deserialize, serde::Serialize)]
+#[serde(deny_unknown_fields, rename_all = "kebab-case")]
+pub struct LongFormat {
+    /// Column holding the tag name.
+    pub tag_column: String,
+    /// Column holding the value.
+    pub value_column: String,
 }
 
 /// The `screening` section.
@@ -373,6 +387,9 @@ pub struct RawLab {
     /// Result time minus sample time; required when `stamped-at: result`.
     #[serde(default)]
     pub delay: Option<Span>,
+    /// The lab files hold one row per analysis and time (not inherited from `data`).
+    #[serde(default)]
+    pub long_format: Option<LongFormat>,
 }
 
 /// A delimiter must be one ASCII character other than the quote.
@@ -501,6 +518,8 @@ pub struct LabSpec {
     pub decimal_comma: bool,
     /// How the lab files' dates are read.
     pub date_order: DateOrder,
+    /// The lab files' long format, if they have one.
+    pub long_format: Option<LongFormat>,
     /// Subtracted from each stamp to get the sample time (zero when stamped at sample time).
     pub delay: Span,
     /// How the files stamp results.
@@ -613,6 +632,8 @@ pub struct Config {
     pub decimal_comma: bool,
     /// How dates not starting with the year are read.
     pub date_order: DateOrder,
+    /// The data files' long format, if they have one.
+    pub long_format: Option<LongFormat>,
     /// Grid spacing.
     pub sample_time: Span,
     /// Maximum age of a held value.
@@ -836,6 +857,7 @@ impl RawConfig {
                         naive_offset_minutes: lab_offset,
                         decimal_comma: lab_comma,
                         date_order: lab.date_order.unwrap_or(self.data.date_order),
+                        long_format: lab.long_format.clone(),
                         delay,
                         stamped_at: lab.stamped_at,
                         below_limit: lab.below_limit,
@@ -871,6 +893,7 @@ impl RawConfig {
             naive_offset_minutes,
             decimal_comma,
             date_order: self.data.date_order,
+            long_format: self.data.long_format.clone(),
             sample_time: ts,
             hold_limit,
             screening: Screening {

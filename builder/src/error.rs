@@ -51,6 +51,20 @@ pub enum DataError {
         /// Nearest header names, already formatted.
         hint: String,
     },
+    /// A tag the config names never appears in a long-format file's tag column.
+    #[error("{path}: no rows for `{tag}` (the {role}) in column `{tag_column}`{hint}")]
+    MissingTag {
+        /// File (the first of the files read).
+        path: PathBuf,
+        /// Name from the config.
+        tag: String,
+        /// What the config uses it for.
+        role: &'static str,
+        /// The long format's tag column.
+        tag_column: String,
+        /// Nearest tag names seen, or some of them, already formatted.
+        hint: String,
+    },
     /// The same column name twice in one header.
     #[error("{path}:{line}: column `{column}` appears twice in the header")]
     DuplicateColumn {

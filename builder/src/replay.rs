@@ -7,7 +7,7 @@ use std::path::Path;
 use regimix_format::{DecodeError, ModelView};
 use regimix_runtime::{state_words, Estimator, Status};
 
-use crate::config::TimestampColumns;
+use crate::config::{LongFormat, TimestampColumns};
 use crate::error::DataError;
 use crate::prepare::historian::{
     csv_error, open_csv, parse_number, read_file, Observation, RawColumn, ReadSpec,
@@ -99,6 +99,8 @@ pub struct CsvForm {
     pub naive_offset_minutes: i32,
     /// How dates not starting with the year are read.
     pub date_order: DateOrder,
+    /// One row per tag and time: where the tag name and the value are.
+    pub long_format: Option<LongFormat>,
 }
 
 impl Default for CsvForm {
@@ -109,6 +111,7 @@ impl Default for CsvForm {
             decimal_comma: false,
             naive_offset_minutes: 0,
             date_order: DateOrder::Ymd,
+            long_format: None,
         }
     }
 }
@@ -160,6 +163,7 @@ pub fn read_inputs(
         naive_offset_minutes: form.naive_offset_minutes,
         decimal_comma: form.decimal_comma,
         date_order: form.date_order,
+        long_format: form.long_format.as_ref(),
     };
     let table = read_file(path, &spec)?;
     // Only values: a below-limit reading (`<0.01`) holds its limit but is not a measurement.

@@ -322,7 +322,7 @@ fn below_limit_lab_results_follow_the_setting() {
         .audit
         .warnings
         .iter()
-        .any(|w| w == "TI-A: 1 cells are below-limit readings (`<` and a number), treated as bad"));
+        .any(|w| w == "TI-A: 1 cell with below-limit readings (`<` and a number), treated as bad"));
 
     for (policy, value) in [
         ("    below-limit: half", 0.025),

@@ -9,6 +9,7 @@ mod replay;
 use std::path::PathBuf;
 
 use clap::{Parser, Subcommand};
+use regimix_builder::config::LongFormat;
 
 /// Build fuzzy multi-model soft sensors from plant historian data.
 ///
@@ -80,6 +81,10 @@ enum Command {
         /// UTC offset of timestamps written without one: `+01:00`, `-05:30` or `UTC`.
         #[arg(long, default_value = "UTC", allow_hyphen_values = true)]
         naive_offset: String,
+        /// One row per tag and time: the column holding the tag name and the one holding the
+        /// value (`--long-format Tag Value`).
+        #[arg(long, num_args = 2, value_names = ["TAG_COLUMN", "VALUE_COLUMN"])]
+        long_format: Vec<String>,
     },
     /// Show what a model file holds: regimes, operating points, gains, dead times, time
     /// constants, limits and settings.
@@ -117,14 +122,21 @@ pub fn run(cli: Cli) -> anyhow::Result<()> {
             decimal_mark,
             date_order,
             naive_offset,
+            long_format,
         } => {
-            let form = replay::csv_form(
+            let mut form = replay::csv_form(
                 timestamp,
                 delimiter,
                 decimal_mark,
                 &date_order,
                 &naive_offset,
             )?;
+            if let Ok([tag_column, value_column]) = <[String; 2]>::try_from(long_format) {
+                form.long_format = Some(LongFormat {
+                    tag_column,
+                    value_column,
+                });
+            }
             replay::run(&model, &data, out.as_deref(), &form)
         }
         Command::Inspect { model, json } => inspect::run(&model, json),

@@ -45,16 +45,23 @@ pub fn csv_form(
         decimal_comma,
         naive_offset_minutes,
         date_order,
+        long_format: None,
     })
 }
 
 /// The reader's hints name config keys (`delimiter: ";"`, `date-order`); replay takes the same
 /// settings as options, so its messages name those instead.
 fn as_options(message: &str) -> String {
-    let mut text = message.replace(
-        "set `date-order` to `dmy` or `mdy`",
-        "pass `--date-order dmy` or `--date-order mdy`",
-    );
+    let mut text = message
+        .replace(
+            "set `date-order` to `dmy` or `mdy`",
+            "pass `--date-order dmy` or `--date-order mdy`",
+        )
+        .replace("set `long-format: { tag-column: ", "pass `--long-format ")
+        .replace(
+            ", value-column: … }` with the column that holds the values",
+            " VALUE_COLUMN` with the column that holds the values",
+        );
     while let Some(start) = text.find("set `delimiter: \"") {
         let rest = &text[start + "set `delimiter: \"".len()..];
         let Some(end) = rest.find("\"`") else {

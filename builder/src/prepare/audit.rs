@@ -503,7 +503,8 @@ fn below_limit_warnings(config: &Config, tag: &TagAudit, out: &mut Vec<String>) 
     let lab = config.target.lab.as_ref().filter(|_| tag.role == "target");
     let Some(lab) = lab else {
         out.push(format!(
-            "{name}: {below} cells are below-limit readings (`<` and a number), treated as bad"
+            "{name}: {} with below-limit readings (`<` and a number), treated as bad",
+            counted(below as u64, "cell", "cells")
         ));
         return;
     };

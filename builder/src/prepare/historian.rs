@@ -15,7 +15,7 @@ use std::path::{Path, PathBuf};
 use serde::Serialize;
 
 use super::text::windows_1252;
-use crate::config::TimestampColumns;
+use crate::config::{LongFormat, TimestampColumns};
 use crate::error::DataError;
 use crate::suggest::nearest;
 use crate::timestamp::{parse_timestamp, DateOrder, Micros, Rfc3339};
@@ -233,6 +233,8 @@ pub struct ReadSpec<'a> {
     pub decimal_comma: bool,
     /// How dates not starting with the year are read.
     pub date_order: DateOrder,
+    /// One row per tag and time: where the tag name and the value are.
+    pub long_format: Option<&'a LongFormat>,
 }
 
 /// A CSV reader error as a [`DataError`] naming the file (and the line where known).
@@ -282,6 +284,8 @@ pub fn read_file(path: &Path, spec: &ReadSpec<'_>) -> Result<RawTable, DataError
 struct Header {
     /// Column names.
     names: Vec<String>,
+    /// In a long-format file, the tag names its rows hold (the first [`MAX_TAG_NAMES`]).
+    tags: Vec<String>,
     /// Lines above the header (a `sep=` line).
     above: u64,
     /// The delimiter the file was read with.
@@ -418,11 +422,26 @@ fn read_one(
     for name in spec.timestamp.names() {
         ts_index.push(locate(name, "timestamp column")?);
     }
+    // Long format: the tag and value columns, and each requested tag's cells as read.
+    let long = match spec.long_format {
+        Some(form) => Some((
+            locate(&form.tag_column, "tag column of the long format")?,
+            locate(&form.value_column, "value column of the long format")?,
+        )),
+        None => None,
+    };
+    let mut by_tag: Vec<(Micros, u32)> = Vec::new();
+    let mut seen: std::collections::BTreeSet<String> = std::collections::BTreeSet::new();
     let mut wanted = Vec::with_capacity(spec.columns.len());
     let mut absent = Vec::new();
     for (name, role) in spec.columns {
-        if every_column || header.contains(name) {
-            wanted.push(Some(locate(name, role)?));
+        if long.is_some() {
+            wanted.push(None);
+        } else if every_column || header.contains(name) {
+            match locate(name, role) {
+                Ok(index) => wanted.push(Some(index)),
+                Err(e) => return Err(with_long_format_hint(e, path, spec, &header)),
+            }
         } else {
             wanted.push(None);
             absent.push(name.clone());
@@ -481,6 +500,19 @@ fn read_one(
                 cause,
             },
         )?;
+        if let Some((tag_index, value_index)) = long {
+            // One tag's value per row; rows of tags not requested are passed over.
+            let tag = fields.get(&record, tag_index);
+            if seen.len() < MAX_TAG_NAMES && !seen.contains(tag.trim()) {
+                seen.insert(tag.trim().to_string());
+            }
+            if let Some(j) = spec.columns.iter().position(|(n, _)| n == tag.trim()) {
+                by_tag.push((time, j as u32));
+                columns[j].push_cell(&fields.get(&record, value_index), spec.decimal_comma);
+            }
+            times.push(time);
+            continue;
+        }
         if let Some(prev) = previous {
             if time < prev {
                 return Err(DataError::NonMonotonic {
@@ -508,6 +540,21 @@ fn read_one(
         });
     }
     let rows = times.len();
+    let mut duplicate_rows = 0;
+    if long.is_some() {
+        absent = spec
+            .columns
+            .iter()
+            .zip(&columns)
+            .filter(|(_, c)| c.values.is_empty())
+            .map(|((name, _), _)| name.clone())
+            .collect();
+        (times, columns, duplicate_rows) = pivot(by_tag, columns);
+        if let (true, Some(form), Some(tag)) = (every_column, spec.long_format, absent.first()) {
+            let names: Vec<String> = seen.iter().cloned().collect();
+            return Err(missing_tag(path, tag, role_of(spec, tag), form, &names));
+        }
+    }
     let table = RawTable {
         times,
         columns,
@@ -518,14 +565,161 @@ fn read_one(
             windows_1252_fields: fields.legacy,
             absent,
         }],
-        duplicate_rows: 0,
+        duplicate_rows,
     };
     let header = Header {
         names: header,
+        tags: seen.into_iter().collect(),
         above: skipped,
         delimiter,
     };
     Ok((table, header))
+}
+
+/// A long-format file's cells, read in file order into one column per tag (`by_tag[i]` is the
+/// time and column of the i-th cell read), as one row per distinct time in time order. A tag
+/// given twice at one time keeps its last value (or, with none, its last marker), as
+/// [`merge`] does for repeated rows, and counts as a duplicate row.
+fn pivot(
+    by_tag: Vec<(Micros, u32)>,
+    cells: Vec<RawColumn>,
+) -> (Vec<Micros>, Vec<RawColumn>, usize) {
+    // Each cell's position in its tag's column.
+    let mut next = vec![0usize; cells.len()];
+    let mut order: Vec<(Micros, u32, usize)> = by_tag
+        .into_iter()
+        .map(|(time, j)| {
+            let at = next[j as usize];
+            next[j as usize] += 1;
+            (time, j, at)
+        })
+        .collect();
+    order.sort_by_key(|&(time, _, _)| time); // stable: file order kept within a time
+    let mut times: Vec<Micros> = order.iter().map(|&(t, _, _)| t).collect();
+    times.dedup();
+    let mut columns: Vec<RawColumn> = cells
+        .iter()
+        .map(|c| RawColumn {
+            name: c.name.clone(),
+            values: vec![f64::NAN; times.len()],
+            kinds: vec![Observation::Empty; times.len()],
+            markers: c.markers.clone(),
+        })
+        .collect();
+    let mut duplicates = 0;
+    let mut row = 0;
+    for (i, &(time, j, at)) in order.iter().enumerate() {
+        if i > 0 && time != order[i - 1].0 {
+            row += 1;
+        }
+        let (j, source) = (j as usize, &cells[j as usize]);
+        let column = &mut columns[j];
+        let kind = source.kinds[at];
+        if column.kinds[row] != Observation::Empty {
+            duplicates += 1;
+            // A later marker does not replace a value.
+            if column.kinds[row] == Observation::Value && kind != Observation::Value {
+                continue;
+            }
+        }
+        if kind != Observation::Empty {
+            column.values[row] = source.values[at];
+            column.kinds[row] = kind;
+        }
+    }
+    (times, columns, duplicates)
+}
+
+/// The role a requested column plays, for messages.
+fn role_of(spec: &ReadSpec<'_>, name: &str) -> &'static str {
+    spec.columns
+        .iter()
+        .find(|(n, _)| n == name)
+        .map_or("column", |(_, role)| role)
+}
+
+/// Most tag names of a long-format file kept for error messages.
+const MAX_TAG_NAMES: usize = 10_000;
+
+/// The error for a tag in no row of a long-format file: the nearest names seen, or some of them.
+fn missing_tag(
+    path: &Path,
+    tag: &str,
+    role: &'static str,
+    form: &LongFormat,
+    seen: &[String],
+) -> DataError {
+    let close = nearest(tag, seen.iter().map(String::as_str), 3);
+    let hint = if close.is_empty() {
+        format!("; the rows name: {}", shorten_list(seen))
+    } else {
+        format!(
+            "; did you mean {}?",
+            close
+                .iter()
+                .map(|c| format!("`{c}`"))
+                .collect::<Vec<_>>()
+                .join(", ")
+        )
+    };
+    DataError::MissingTag {
+        path: path.to_path_buf(),
+        tag: tag.to_string(),
+        role,
+        tag_column: form.tag_column.clone(),
+        hint,
+    }
+}
+
+/// A missing column's error, with a pointer to the long format when the file's first rows hold
+/// a requested tag's name in some column.
+fn with_long_format_hint(
+    error: DataError,
+    path: &Path,
+    spec: &ReadSpec<'_>,
+    header: &[String],
+) -> DataError {
+    let DataError::MissingColumn {
+        path: p,
+        line,
+        column,
+        role,
+        hint,
+    } = error
+    else {
+        return error;
+    };
+    let found = (|| {
+        let mut reader = open_csv(path, spec.delimiter).ok()?.reader;
+        let mut record = csv::ByteRecord::new();
+        let mut fields = FieldText::default();
+        reader.read_byte_record(&mut record).ok()?; // the header
+        for _ in 0..200 {
+            if !reader.read_byte_record(&mut record).ok()? {
+                break;
+            }
+            for i in 0..record.len() {
+                let cell = fields.get(&record, i);
+                if spec.columns.iter().any(|(n, _)| n == cell.trim()) {
+                    return header.get(i).cloned();
+                }
+            }
+        }
+        None
+    })();
+    let hint = match found {
+        Some(tag_column) => format!(
+            "; the rows name tags in column `{tag_column}`: a long-format export (one row per tag and time); set `long-format: {{ tag-column: {tag_column}, value-column: … }}` with the column that holds the values"
+        ),
+        None => hint,
+    };
+    DataError::MissingColumn {
+        path: p,
+        line,
+        column,
+        role,
+        hint,
+    }
 }
 
 /// The error for a column not in `header`, with what probably went wrong: another delimiter, a
@@ -597,15 +791,12 @@ pub fn read_files(paths: &[PathBuf], spec: &ReadSpec<'_>) -> Result<RawTable, Da
             .iter()
             .all(|t| t.files.iter().all(|f| f.absent.contains(name)));
         if let (true, Some((path, header))) = (everywhere_absent, &first_header) {
+            if let Some(form) = spec.long_format {
+                return Err(missing_tag(path, name, role, form, &header.tags));
+            }
             let line = 1 + header.above;
-            return Err(missing_column(
-                path,
-                line,
-                &header.names,
-                name,
-                role,
-                header.delimiter,
-            ));
+            let error = missing_column(path, line, &header.names, name, role, header.delimiter);
+            return Err(with_long_format_hint(error, path, spec, &header.names));
         }
     }
     Ok(merge(tables))
@@ -639,9 +830,11 @@ pub fn merge(mut tables: Vec<RawTable>) -> RawTable {
         times: std::mem::take(&mut first.times),
         columns: std::mem::take(&mut first.columns),
         files: std::mem::take(&mut first.files),
-        duplicate_rows: 0,
+        // A long-format file counts its own repeats while pivoting.
+        duplicate_rows: first.duplicate_rows,
     };
     for table in tables.into_iter().skip(1) {
+        out.duplicate_rows += table.duplicate_rows;
         sources.extend(std::iter::repeat_n(present.len() as u32, table.times.len()));
         present.push(holds(&table));
         out.times.extend_from_slice(&table.times);
@@ -738,6 +931,7 @@ mod tests {
             naive_offset_minutes: 0,
             decimal_comma: false,
             date_order: DateOrder::Ymd,
+            long_format: None,
         }
     }
 

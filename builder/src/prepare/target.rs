@@ -61,6 +61,7 @@ pub fn read_lab_files(lab: &LabSpec, tag: &str) -> Result<LabSamples, DataError>
         naive_offset_minutes: lab.naive_offset_minutes,
         decimal_comma: lab.decimal_comma,
         date_order: lab.date_order,
+        long_format: lab.long_format.as_ref(),
     };
     let table = historian::read_files(&lab.files, &spec)?;
     let files = table.files;
@@ -237,6 +238,7 @@ mod tests {
             naive_offset_minutes: 60,
             decimal_comma: false,
             date_order: crate::timestamp::DateOrder::Dmy,
+            long_format: None,
             delay: crate::duration::Span::from_secs(0),
             stamped_at: crate::config::LabStamp::Sample,
             below_limit: BelowLimit::Skip,
