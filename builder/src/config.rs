@@ -283,6 +283,19 @@ pub struct LongFormat {
     pub tag_column: String,
     /// Column holding the value.
     pub value_column: String,
+    /// Column holding a quality code per row, if any: a row whose code is not in
+    /// `good-quality` counts as a quality marker (its code is the marker text).
+    #[serde(default)]
+    pub quality_column: Option<String>,
+    /// Quality codes that mean a usable value, compared without regard to case (default
+    /// `[Good]`; OPC-style numeric codes need listing, e.g. `[192]`).
+    #[serde(default = "default_good_quality")]
+    pub good_quality: Vec<String>,
+}
+
+/// The quality codes that mean a usable value when none are configured: `Good`.
+pub fn default_good_quality() -> Vec<String> {
+    vec!["Good".to_string()]
 }
 
 /// The `screening` section.

@@ -118,6 +118,57 @@ fn a_long_export_reads_as_the_wide_one_in_any_row_order() {
     assert_eq!(again.audit.duplicate_rows, 1);
 }
 
+/// A quality column: rows whose code is not a good one read as quality markers under their
+/// code, as the same cells written `Bad` in a wide export; codes compare without regard to case,
+/// and numeric codes work when listed.
+#[test]
+fn a_quality_column_marks_rows_with_bad_codes() {
+    let dir = tempfile::tempdir().expect("tempdir");
+    let (wide, long) = plant();
+    let bad_minutes = 60..64usize;
+    let mut wide_bad = String::new();
+    for (i, line) in wide.lines().enumerate() {
+        let mut fields: Vec<String> = line.split(',').map(str::to_string).collect();
+        if i > 0 && bad_minutes.contains(&(i - 1)) {
+            fields[2] = "Bad".into();
+        }
+        wide_bad.push_str(&(fields.join(",") + "\n"));
+    }
+    let from_wide = prepared(dir.path(), &wide_bad, CONFIG);
+    assert_eq!(from_wide.audit.tags[1].markers.get("Bad"), Some(&4));
+    let coded = |good: &str, bad: &str| {
+        long.lines()
+            .map(|line| {
+                let mut fields: Vec<String> = line.split(',').map(str::to_string).collect();
+                if fields[1] == "TI-B" && bad_minutes.clone().any(|m| fields[0] == stamp(m)) {
+                    fields[3] = bad.into();
+                } else if fields[3] == "good" {
+                    fields[3] = good.into();
+                }
+                fields.join(",") + "\n"
+            })
+            .collect::<String>()
+    };
+    let with_quality = |good: &str| {
+        CONFIG.replace(
+            "  timestamp: time",
+            &format!(
+                "  timestamp: time\n  long-format: {{ tag-column: tag, value-column: value, quality-column: quality{good} }}"
+            ),
+        )
+    };
+    same_data(
+        &from_wide,
+        &prepared(dir.path(), &coded("GOOD", "Bad"), &with_quality("")),
+    );
+    let numeric = prepared(
+        dir.path(),
+        &coded("192", "Bad"),
+        &with_quality(", good-quality: [192]"),
+    );
+    same_data(&from_wide, &numeric);
+}
+
 #[test]
 fn a_wide_config_on_a_long_file_names_the_setting_and_a_missing_tag_is_named() {
     let dir = tempfile::tempdir().expect("tempdir");
@@ -211,6 +262,39 @@ fn replay_reads_the_long_format() {
     );
     assert!(b.status.success(), "{}", String::from_utf8_lossy(&b.stderr));
     assert_eq!(a.stdout, b.stdout);
+    // Every row's code is `good`: the default good code, compared without regard to case.
+    let q = regimix(
+        dir.path(),
+        &[
+            "replay",
+            "o/model.rgmx",
+            "long.csv",
+            "--long-format",
+            "tag",
+            "value",
+            "--quality-column",
+            "quality",
+        ],
+    );
+    assert_eq!(a.stdout, q.stdout, "{}", String::from_utf8_lossy(&q.stderr));
+    // With another good code, every row is bad: each input warned about, no estimate.
+    let bad = regimix(
+        dir.path(),
+        &[
+            "replay",
+            "o/model.rgmx",
+            "long.csv",
+            "--long-format",
+            "tag",
+            "value",
+            "--quality-column",
+            "quality",
+            "--good-quality",
+            "192",
+        ],
+    );
+    let stderr = String::from_utf8_lossy(&bad.stderr);
+    assert!(stderr.contains("(most often `good`)"), "{stderr}");
     let c = regimix(dir.path(), &["replay", "o/model.rgmx", "long.csv"]);
     assert_clean_failure(&c, "pass `--long-format tag VALUE_COLUMN`");
 }

@@ -85,6 +85,14 @@ enum Command {
         /// value (`--long-format Tag Value`).
         #[arg(long, num_args = 2, value_names = ["TAG_COLUMN", "VALUE_COLUMN"])]
         long_format: Vec<String>,
+        /// With `--long-format`: the column of quality codes; rows whose code is not a
+        /// `--good-quality` code are invalid inputs.
+        #[arg(long, requires = "long_format")]
+        quality_column: Option<String>,
+        /// A quality code that means a usable value (repeatable; compared without regard to
+        /// case).
+        #[arg(long, requires = "quality_column", default_value = "Good")]
+        good_quality: Vec<String>,
     },
     /// Show what a model file holds: regimes, operating points, gains, dead times, time
     /// constants, limits and settings.
@@ -123,6 +131,8 @@ pub fn run(cli: Cli) -> anyhow::Result<()> {
             date_order,
             naive_offset,
             long_format,
+            quality_column,
+            good_quality,
         } => {
             let mut form = replay::csv_form(
                 timestamp,
@@ -135,6 +145,8 @@ pub fn run(cli: Cli) -> anyhow::Result<()> {
                 form.long_format = Some(LongFormat {
                     tag_column,
                     value_column,
+                    quality_column,
+                    good_quality,
                 });
             }
             replay::run(&model, &data, out.as_deref(), &form)

@@ -66,6 +66,19 @@ impl RawColumn {
         }
     }
 
+    /// A cell known to be unusable, counted under `text` (a long-format row's quality code;
+    /// an empty code counts as `(no quality)`).
+    fn push_marker(&mut self, text: &str) {
+        let text = if text.is_empty() {
+            "(no quality)"
+        } else {
+            text
+        };
+        *self.markers.entry(text.to_string()).or_insert(0) += 1;
+        self.values.push(f64::NAN);
+        self.kinds.push(Observation::Marker);
+    }
+
     fn push_cell(&mut self, text: &str, decimal_comma: bool) {
         let t = text.trim();
         if t.is_empty() {
@@ -427,6 +440,10 @@ fn read_one(
         Some(form) => Some((
             locate(&form.tag_column, "tag column of the long format")?,
             locate(&form.value_column, "value column of the long format")?,
+            match &form.quality_column {
+                Some(name) => Some(locate(name, "quality column of the long format")?),
+                None => None,
+            },
         )),
         None => None,
     };
@@ -500,7 +517,7 @@ fn read_one(
                 cause,
             },
         )?;
-        if let Some((tag_index, value_index)) = long {
+        if let Some((tag_index, value_index, quality_index)) = long {
             // One tag's value per row; rows of tags not requested are passed over.
             let tag = fields.get(&record, tag_index);
             if seen.len() < MAX_TAG_NAMES && !seen.contains(tag.trim()) {
@@ -508,7 +525,20 @@ fn read_one(
             }
             if let Some(j) = spec.columns.iter().position(|(n, _)| n == tag.trim()) {
                 by_tag.push((time, j as u32));
-                columns[j].push_cell(&fields.get(&record, value_index), spec.decimal_comma);
+                let quality = quality_index.map(|q| fields.get(&record, q));
+                let good = spec.long_format.is_none_or(|form| {
+                    quality.as_deref().is_none_or(|q| {
+                        form.good_quality
+                            .iter()
+                            .any(|g| g.eq_ignore_ascii_case(q.trim()))
+                    })
+                });
+                match quality {
+                    Some(code) if !good => columns[j].push_marker(code.trim()),
+                    _ => {
+                        columns[j].push_cell(&fields.get(&record, value_index), spec.decimal_comma)
+                    }
+                }
             }
             times.push(time);
             continue;
