@@ -125,6 +125,12 @@ impl RawColumn {
 /// (as Rust parses `f64`: exponents, `NaN` and `inf`, which the caller treats as markers), and
 /// digits grouped in threes ([`grouped_number`]).
 pub fn parse_number(text: &str, decimal_comma: bool) -> Option<f64> {
+    // A leading minus sign as typeset (U+2212), as reports and some exports write it.
+    if let Some(rest) = text.strip_prefix('\u{2212}') {
+        return parse_number(rest, decimal_comma)
+            .filter(|_| !rest.starts_with(['-', '+', '\u{2212}']))
+            .map(|v| -v);
+    }
     let plain = if decimal_comma {
         let bytes = text.as_bytes();
         let mut buf = [0u8; 64];
@@ -998,6 +1004,13 @@ mod tests {
             ("1,234.5e3", false, None),
             ("1 234,5", false, None), // a comma is no decimal mark here
             ("5,140.0", true, None),
+            // The typeset minus sign, U+2212 (Unicode's MINUS SIGN), once and leading only.
+            ("\u{2212}5", false, Some(-5.0)),
+            ("\u{2212}1,5", true, Some(-1.5)),
+            ("\u{2212}1,234.5", false, Some(-1234.5)),
+            ("\u{2212}-5", false, None),
+            ("\u{2212}\u{2212}5", false, None),
+            ("5\u{2212}", false, None),
         ] {
             assert_eq!(parse_number(text, comma), want, "{text} (comma {comma})");
         }
