@@ -207,8 +207,11 @@ pub fn mark_spikes_with_floor(
         if x.is_nan() {
             continue;
         }
+        // No spread among the window's observations (a setpoint or a discrete state that sits
+        // at one level most of the time) gives no scale to judge by: no verdict, rather than
+        // every departure from that level a spike.
         let scale = scales[r].max(floor(medians[r]));
-        if (x - medians[r]).abs() > threshold * scale {
+        if scale > 0.0 && (x - medians[r]).abs() > threshold * scale {
             for cell in start..end {
                 series.status[cell] = CellStatus::Spike;
                 series.values[cell] = f64::NAN;
@@ -337,8 +340,30 @@ mod tests {
 
     #[test]
     fn hampel_floor_protects_quantized_steps() {
-        let mut s = series(&[1.0, 1.0, 1.0, 1.0, 1.1, 1.0, 1.0, 1.0]);
+        let mut s = series(&[1.0, 1.01, 1.02, 0.99, 1.1, 0.98, 1.01, 1.0]);
         assert_eq!(mark_spikes(&mut s.clone(), 3, 4.0, 0.0), 1);
         assert_eq!(mark_spikes(&mut s, 3, 4.0, 0.1), 0);
+    }
+
+    /// A setpoint at 100 that moves to 104 for a while, again and again: its window's
+    /// observations have no spread (more than half sit at 100), so no level is a spike; a
+    /// signal with spread still has its spike flagged.
+    #[test]
+    fn a_signal_without_spread_has_no_spikes() {
+        let values: Vec<f64> = (0..700)
+            .map(|k| {
+                if (300..420).contains(&(k % 350)) {
+                    104.0
+                } else {
+                    100.0
+                }
+            })
+            .collect();
+        let mut s = series(&values);
+        assert_eq!(mark_spikes(&mut s, 15, 5.0, 0.0), 0);
+        let mut noisy: Vec<f64> = (0..200).map(|k| 100.0 + (k as f64 * 1.7).sin()).collect();
+        noisy[100] = 130.0;
+        let mut s = series(&noisy);
+        assert_eq!(mark_spikes(&mut s, 15, 5.0, 0.0), 1);
     }
 }
