@@ -598,3 +598,25 @@ fn lab_target_builds_a_static_model() {
     assert!(summary["test"]["samples"].as_u64().expect("samples") >= 20);
     assert!(summary["rmse_ratio"].as_f64().expect("ratio") < 1.0);
 }
+
+/// A reader that stops early (`regimix build … | head -1`) ends the output quietly: exit 0,
+/// nothing on stderr, every file written.
+#[test]
+fn a_closed_stdout_is_not_an_error() {
+    let dir = tempfile::tempdir().expect("tempdir");
+    small_plant(dir.path(), |_, _| {});
+    write(dir.path(), "c.yaml", SMALL);
+    let mut child = std::process::Command::new(env!("CARGO_BIN_EXE_regimix"))
+        .args(["build", "c.yaml", "--out", "o", "--quiet"])
+        .current_dir(dir.path())
+        .stdout(std::process::Stdio::piped())
+        .stderr(std::process::Stdio::piped())
+        .spawn()
+        .expect("spawn");
+    drop(child.stdout.take()); // the reader goes away before the first line
+    let out = child.wait_with_output().expect("wait");
+    let stderr = String::from_utf8_lossy(&out.stderr);
+    assert!(out.status.success(), "{stderr}");
+    assert!(stderr.is_empty(), "{stderr}");
+    assert!(dir.path().join("o/model.rgmx").exists());
+}

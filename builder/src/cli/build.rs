@@ -38,7 +38,7 @@ pub fn run(config_path: &Path, out: &Path, quiet: bool) -> anyhow::Result<()> {
         ("summary.json", json.as_bytes()),
     ];
     write_all_atomic(out, &files)?;
-    println!(
+    super::print_out(&(format!(
         "{} regimes, {} regressor{}; test RMSE {:.4}{} vs global linear {:.4} ({:.2}×); R² {:.3}; out of domain {:.1} %",
         s.regime_count,
         s.regressors.len(),
@@ -52,14 +52,16 @@ pub fn run(config_path: &Path, out: &Path, quiet: bool) -> anyhow::Result<()> {
         s.rmse_ratio,
         s.test.r2,
         100.0 * s.test.out_of_domain_fraction
-    );
+    ) + "\n"))?;
     for note in &s.notes {
-        println!("note: {note}");
+        super::print_out(&(format!("note: {note}") + "\n"))?;
     }
-    println!(
+    super::print_out(
+        &(format!(
         "wrote {}/{{model.rgmx, model.yaml, report.html, validation.csv, summary.json}} in {:.1} s",
         out.display(),
         started.elapsed().as_secs_f64()
-    );
+    ) + "\n"),
+    )?;
     Ok(())
 }

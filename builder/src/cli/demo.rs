@@ -33,10 +33,12 @@ pub fn run(out: &Path, quiet: bool) -> anyhow::Result<()> {
         eprintln!("demo plant C-301 (invented benzene–toluene splitter): estimating the distillate's toluene impurity");
     }
     super::build::run(&data.join("c301.yaml"), out, quiet)?;
-    println!("report: {}", out.join("report.html").display());
-    println!(
-        "model:  {} (inspect it with `regimix inspect`)",
-        out.join("model.rgmx").display()
-    );
+    super::print_out(&(format!("report: {}", out.join("report.html").display()) + "\n"))?;
+    super::print_out(
+        &(format!(
+            "model:  {} (inspect it with `regimix inspect`)",
+            out.join("model.rgmx").display()
+        ) + "\n"),
+    )?;
     Ok(())
 }
