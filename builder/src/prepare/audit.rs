@@ -373,7 +373,7 @@ fn warnings(config: &Config, audit: &Audit, median: Option<i64>) -> Vec<String> 
         }
         for f in &tag.frozen {
             out.push(format!(
-                "{name}: frozen for {} from {} — check the transmitter and its historian compression",
+                "{name}: frozen for {} from {} — check the transmitter and its historian compression; a setpoint or a state that legitimately holds still needs a longer `frozen-after` on this tag",
                 f.duration, f.start
             ));
         }
