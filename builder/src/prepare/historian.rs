@@ -476,6 +476,8 @@ fn read_one(
         .map(|(n, _)| RawColumn::new(n))
         .collect();
     let mut times = Vec::new();
+    // Data rows read (in the long format, `times` only fills when the rows are pivoted).
+    let mut data_rows = 0usize;
     let mut labels = Vec::new();
     let mut previous: Option<Micros> = None;
     let mut previous_line = 1 + skipped;
@@ -508,7 +510,7 @@ fn read_one(
             }
             _ => fields.get(&record, ts_index.first().copied().unwrap_or(0)),
         };
-        if times.is_empty()
+        if data_rows == 0
             && labels.len() < MAX_LABEL_ROWS
             && !ts_text.bytes().any(|b| b.is_ascii_digit())
         {
@@ -546,7 +548,7 @@ fn read_one(
                     }
                 }
             }
-            times.push(time);
+            data_rows += 1;
             continue;
         }
         if let Some(prev) = previous {
@@ -563,6 +565,7 @@ fn read_one(
         }
         previous = Some(time);
         times.push(time);
+        data_rows += 1;
         for (column, &index) in columns.iter_mut().zip(&wanted) {
             match index {
                 Some(index) => column.push_cell(&fields.get(&record, index), spec.decimal_comma),
@@ -570,12 +573,12 @@ fn read_one(
             }
         }
     }
-    if times.is_empty() {
+    if data_rows == 0 {
         return Err(DataError::HeaderOnly {
             path: path.to_path_buf(),
         });
     }
-    let rows = times.len();
+    let rows = data_rows;
     let mut duplicate_rows = 0;
     if long.is_some() {
         absent = spec
