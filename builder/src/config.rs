@@ -1074,19 +1074,39 @@ impl RawConfig {
             .hold_limit
             .unwrap_or(Span::from_micros(5 * ts.micros()))
             .whole_steps(ts);
-        let window = rt
-            .lab_window
-            .unwrap_or(Span::from_micros(
+        const MAX_WINDOW: i64 = regimix_format::limits::MAX_LAB_WINDOW as i64;
+        let window = match rt.lab_window {
+            Some(w) if w.whole_steps(ts) > MAX_WINDOW => {
+                return Err(invalid(
+                    "runtime.lab-window",
+                    format!(
+                        "{w} is {} samples of {ts}; the runtime keeps at most {MAX_WINDOW}",
+                        w.whole_steps(ts)
+                    ),
+                ));
+            }
+            Some(w) => w.whole_steps(ts),
+            // The lab delay plus an hour (two hours for an analyzer), at most what the runtime
+            // keeps: a short sample time would otherwise ask for more.
+            None => Span::from_micros(
                 lab_delay.map_or(2 * 3_600_000_000, |d| d.micros() + 3_600_000_000),
-            ))
-            .whole_steps(ts);
-        if hold > i64::from(u16::MAX) || window as usize > regimix_format::limits::MAX_LAB_WINDOW {
+            )
+            .whole_steps(ts)
+            .min(MAX_WINDOW),
+        };
+        if let Some(delay) = lab_delay.filter(|d| d.whole_steps(ts) >= window) {
             return Err(invalid(
-                "runtime",
+                "runtime.lab-window",
                 format!(
-                    "hold-limit and lab-window must be at most {} samples",
-                    regimix_format::limits::MAX_LAB_WINDOW
+                    "the lab delay {delay} is {} samples of {ts}, beyond the {window}-sample lab window (at most {MAX_WINDOW}): no lab result could reach the bias update; use a longer sample-time or a longer lab-window",
+                    delay.whole_steps(ts)
                 ),
+            ));
+        }
+        if hold > i64::from(u16::MAX) {
+            return Err(invalid(
+                "runtime.hold-limit",
+                format!("{hold} samples of {ts}; at most {}", u16::MAX),
             ));
         }
         let bias_gain = rt.bias_gain.unwrap_or(0.3);
@@ -1346,6 +1366,35 @@ inputs:
             let err = load(&text).expect_err(key).to_string();
             assert!(err.contains(&format!("`{key}`")), "{key}: {err}");
         }
+    }
+
+    /// A short sample time: the default lab window stops at what the runtime keeps (4096
+    /// samples) instead of failing; a set one beyond it, or a lab delay beyond the window, is an
+    /// error that names `runtime.lab-window`.
+    #[test]
+    fn the_lab_window_fits_the_runtime() {
+        let fast = MINIMAL.replace("sample-time: 1min", "sample-time: 1s");
+        let c = load(&fast).expect("valid");
+        assert_eq!(c.modelling.lab_window, 4096);
+        let err = load(&format!("{fast}runtime: {{ lab-window: 2h }}\n"))
+            .expect_err("too long")
+            .to_string();
+        assert!(
+            err.contains("runtime.lab-window") && err.contains("7200 samples of 1s"),
+            "{err}"
+        );
+        let lab = fast.replace(
+            "  source: analyzer\n  dead-time: 10min",
+            "  source: lab\n  lab:\n    files: [lab.csv]\n    stamped-at: result\n    delay: 2h",
+        );
+        let err = load(&lab).expect_err("delay beyond").to_string();
+        assert!(
+            err.contains("runtime.lab-window") && err.contains("the lab delay 2h is 7200 samples"),
+            "{err}"
+        );
+        // At one minute the same delay fits: 3 h = 180 samples.
+        let c = load(&lab.replace("sample-time: 1s", "sample-time: 1min")).expect("valid");
+        assert_eq!(c.modelling.lab_window, 180);
     }
 
     #[test]
