@@ -692,14 +692,7 @@ fn missing_tag(
     let hint = if close.is_empty() {
         format!("; the rows name: {}", shorten_list(seen))
     } else {
-        format!(
-            "; did you mean {}?",
-            close
-                .iter()
-                .map(|c| format!("`{c}`"))
-                .collect::<Vec<_>>()
-                .join(", ")
-        )
+        did_you_mean(&close)
     };
     DataError::MissingTag {
         path: path.to_path_buf(),
@@ -788,14 +781,7 @@ fn missing_column(
     } else if close.is_empty() {
         format!("; the header has: {}", shorten_list(header))
     } else {
-        format!(
-            "; did you mean {}?",
-            close
-                .iter()
-                .map(|c| format!("`{c}`"))
-                .collect::<Vec<_>>()
-                .join(", ")
-        )
+        did_you_mean(&close)
     };
     DataError::MissingColumn {
         path: path.to_path_buf(),
@@ -804,6 +790,12 @@ fn missing_column(
         role,
         hint,
     }
+}
+
+/// `; did you mean `a`, `b`?` for the near misses found.
+fn did_you_mean(close: &[String]) -> String {
+    let names: Vec<String> = close.iter().map(|c| format!("`{c}`")).collect();
+    format!("; did you mean {}?", names.join(", "))
 }
 
 fn shorten_list(names: &[String]) -> String {
