@@ -249,50 +249,26 @@ fn replay_reads_the_long_format() {
     );
     write(dir.path(), "long.csv", &long);
     let a = regimix(dir.path(), &["replay", "o/model.rgmx", "plant.csv"]);
-    let b = regimix(
-        dir.path(),
-        &[
+    let long = |extra: &[&str]| {
+        let mut args = vec![
             "replay",
             "o/model.rgmx",
             "long.csv",
             "--long-format",
             "tag",
             "value",
-        ],
-    );
+        ];
+        args.extend_from_slice(extra);
+        regimix(dir.path(), &args)
+    };
+    let b = long(&[]);
     assert!(b.status.success(), "{}", String::from_utf8_lossy(&b.stderr));
     assert_eq!(a.stdout, b.stdout);
     // Every row's code is `good`: the default good code, compared without regard to case.
-    let q = regimix(
-        dir.path(),
-        &[
-            "replay",
-            "o/model.rgmx",
-            "long.csv",
-            "--long-format",
-            "tag",
-            "value",
-            "--quality-column",
-            "quality",
-        ],
-    );
+    let q = long(&["--quality-column", "quality"]);
     assert_eq!(a.stdout, q.stdout, "{}", String::from_utf8_lossy(&q.stderr));
     // With another good code, every row is bad: each input warned about, no estimate.
-    let bad = regimix(
-        dir.path(),
-        &[
-            "replay",
-            "o/model.rgmx",
-            "long.csv",
-            "--long-format",
-            "tag",
-            "value",
-            "--quality-column",
-            "quality",
-            "--good-quality",
-            "192",
-        ],
-    );
+    let bad = long(&["--quality-column", "quality", "--good-quality", "192"]);
     let stderr = String::from_utf8_lossy(&bad.stderr);
     assert!(stderr.contains("(most often `good`)"), "{stderr}");
     let c = regimix(dir.path(), &["replay", "o/model.rgmx", "long.csv"]);

@@ -4,6 +4,7 @@ use std::path::Path;
 
 use anyhow::Context;
 use regimix_builder::analysis::{regime_dynamics, RegimeDynamics};
+use regimix_builder::prepare::audit::tag_column_width;
 use regimix_format::transform::Transform;
 use regimix_format::{ModelView, Source};
 use serde::Serialize;
@@ -185,14 +186,7 @@ pub fn run(path: &Path, json: bool) -> anyhow::Result<()> {
         8 * s.state_words,
         4 * s.state_words
     );
-    // The tag column fits the longest tag name.
-    let w = s
-        .inputs
-        .iter()
-        .map(|i| i.tag.chars().count())
-        .max()
-        .unwrap_or(0)
-        .max(16);
+    let w = tag_column_width(s.inputs.iter().map(|i| i.tag.as_str()));
     println!("\nInputs");
     for i in &s.inputs {
         println!(

@@ -484,6 +484,11 @@ fn warnings(config: &Config, audit: &Audit, median: Option<i64>) -> Vec<String> 
     out
 }
 
+/// Width of a text table's tag column: the longest tag name, at least 16 characters.
+pub fn tag_column_width<'a>(tags: impl Iterator<Item = &'a str>) -> usize {
+    tags.map(|t| t.chars().count()).max().unwrap_or(0).max(16)
+}
+
 /// `n` and the noun in the number it takes: `1 cell`, `2 cells`.
 fn counted(n: u64, one: &str, many: &str) -> String {
     format!("{n} {}", if n == 1 { one } else { many })
@@ -607,14 +612,7 @@ impl fmt::Display for Audit {
         )?;
         writeln!(f)?;
         writeln!(f, "Tags")?;
-        // The tag column fits the longest tag name.
-        let w = self
-            .tags
-            .iter()
-            .map(|t| t.tag.chars().count())
-            .max()
-            .unwrap_or(0)
-            .max(16);
+        let w = tag_column_width(self.tags.iter().map(|t| t.tag.as_str()));
         writeln!(
             f,
             "  {:<w$} {:<7} {:>8} {:>7} {:>7} {:>7} {:>6} {:>6}  {:>11} {:>11} {:>11}  unit",
