@@ -12,9 +12,10 @@ use crate::status::{LabOutcome, Status};
 struct Layout {
     /// Word of each ring's head index (its values follow): the inputs' rings, then the output's
     /// at [`OUTPUT`]. 32-bit: the C interface rebuilds the layout on every call, so it is kept
-    /// small (state indices stay below 2^16 at the format's limits).
+    /// small. These rings are mirrored: each value is written twice, `len` words apart, so that
+    /// any lag reads at `head + len − lag` without wrapping (see [`tap`]).
     rings: [u32; RINGS],
-    /// Values in each ring.
+    /// Values in each ring (each held twice).
     ring_len: [u32; RINGS],
     lab_ring: usize,
     lab_len: usize,
@@ -35,6 +36,9 @@ const HEADER_WORDS: usize = 3;
 const RINGS: usize = MAX_INPUTS + 1;
 /// Index of the output's ring in [`Layout`].
 const OUTPUT: usize = MAX_INPUTS;
+/// Slots of `step`'s array of ring heads: [`RINGS`] rounded up to a power of two, so that a
+/// ring number masked to it needs no bounds check.
+const HEADS: usize = RINGS.next_power_of_two();
 
 impl Layout {
     /// Ring `i`'s head word and its number of values.
@@ -52,18 +56,19 @@ impl Layout {
         let mut warmup = model.max_output_lag() as usize;
         for j in 0..n.min(MAX_INPUTS) {
             // One block per input, read in one piece by `step`: last good value, samples since
-            // it, then the ring (head index, values). The blocks follow the header back to
-            // back: `step` splits them off in order.
+            // it, then the ring (head index, values twice over). The blocks follow the header
+            // back to back: `step` splits them off in order.
             let len = model.max_input_lag(j) as usize + 1;
             rings[j] = (at + 2) as u32;
             ring_len[j] = len as u32;
-            at += 3 + len;
+            at += 3 + 2 * len;
             warmup = warmup.max(len - 1);
         }
         let out_len = model.max_output_lag() as usize + 1;
         rings[OUTPUT] = at as u32;
         ring_len[OUTPUT] = out_len as u32;
-        at += 1 + out_len;
+        at += 1 + 2 * out_len;
+        // The raw estimates for lab results: read once per result, so not mirrored.
         let lab_ring = at;
         let lab_len = model.lab_window() as usize + 1;
         at += 1 + lab_len;
@@ -305,8 +310,9 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         lagged_at(self.state, ring, len, self.head(ring, len) as u16, lag)
     }
 
+    /// Sets every value of a mirrored ring (both copies).
     fn fill(&mut self, ring: usize, len: usize, v: T) {
-        for k in 0..len {
+        for k in 0..2 * len {
             self.set(ring + 1 + k, v);
         }
     }
@@ -342,7 +348,7 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         }
         let first = !(self.get(COUNT).to_f64() > 0.0);
         let hold = self.hot.hold;
-        let mut heads = [0u16; RINGS];
+        let mut heads = [0u16; HEADS];
         let mut standardized = [T::ZERO; MAX_INPUTS];
         // The inputs' blocks follow the header back to back (see `Layout::of`): split off one
         // at a time, one length check each.
@@ -354,7 +360,8 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
             .zip(&self.layout.ring_len)
         {
             let [low, high, mean, std] = fields::<T, 4>(record);
-            let Some((block, rest)) = blocks.split_at_mut_checked(3 + len as usize) else {
+            let len = len as usize;
+            let Some((block, rest)) = blocks.split_at_mut_checked(3 + 2 * len) else {
                 break;
             };
             blocks = rest;
@@ -380,12 +387,14 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
                     }
                 }
             };
-            // Push: heads are bit patterns below `len` (see `head_of`).
+            // Push, into both copies: heads are bit patterns below `len` (see `head_of`).
+            let (values, mirror) = values.split_at_mut(len.min(values.len()));
             let next = head.to_index().wrapping_add(1);
             let h = if next < values.len() { next } else { 0 };
             *head = T::from_index(h as u32); // h < len ≤ MAX_LAG + 1
-            if let Some(v) = values.get_mut(h) {
+            if let (Some(v), Some(m)) = (values.get_mut(h), mirror.get_mut(h)) {
                 *v = effective;
+                *m = effective;
             }
             *head_out = h as u16;
             *standard = (effective - mean) / std;
@@ -420,7 +429,8 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         }
         if model.uses_output_lags() {
             let (ring, len) = self.layout.ring(OUTPUT);
-            self.push(ring, len, y);
+            let h = self.push(ring, len, y);
+            self.set(ring + 1 + h + len, y); // its mirror
         }
         let trusted = status & Status::UNTRUSTED == 0 && y.is_finite();
         self.push(
@@ -467,7 +477,7 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
     /// input rings' heads after this sample's push and the inputs standardized, (x − mean) / std.
     /// Returns (blended model-domain estimate, largest typicality, dominant regime). The hot
     /// path: every model field is read straight from the validated bytes.
-    fn evaluate(&mut self, heads: &mut [u16; RINGS], standardized: &[T; MAX_INPUTS]) -> (T, T, u8) {
+    fn evaluate(&mut self, heads: &mut [u16; HEADS], standardized: &[T; MAX_INPUTS]) -> (T, T, u8) {
         let hot = &self.hot;
         let layout = &self.layout;
         let (p, nr, c) = (hot.p, hot.nr, hot.c);
@@ -492,19 +502,14 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
 
         let (out_ring, out_len) = layout.ring(OUTPUT);
         heads[OUTPUT] = head_of(history, out_ring, out_len) as u16;
-        // Each regressor's tap ([`tap`], written by `reset`): its ring in the low byte, how far
-        // past the ring's head its value sits above it.
+        // Each regressor's tap ([`tap`], written by `reset`): its ring in the low byte, above
+        // it the word its value sits at when the ring's head is 0. A corrupted tap reads some
+        // word of the state or NaN.
         let taps = history.get(layout.taps..layout.taps + nr).unwrap_or(&[]);
         let fetch = |tap: T| {
             let tap = tap.to_index();
-            let ring = tap & 0xff;
-            let (at, len) = layout.ring(ring);
-            let head = heads.get(ring).map_or(0, |&h| usize::from(h));
-            // head < len and 1 ≤ len − back ≤ len: one subtraction wraps (see `lagged_at`); a
-            // corrupted tap reads some word of the state or NaN.
-            let i = head + (tap >> 8);
-            let i = if i >= len { i - len } else { i };
-            history.get(at + 1 + i).copied().unwrap_or(T::NAN)
+            let head = usize::from(heads[tap & (HEADS - 1)]);
+            history.get((tap >> 8) + head).copied().unwrap_or(T::NAN)
         };
         for (v, &tap) in values.iter_mut().zip(taps) {
             *v = fetch(tap);
@@ -632,12 +637,15 @@ fn ring_and_back(reg: Regressor) -> (usize, usize) {
 }
 
 /// Regressor tap for `back` entries behind the newest of ring `ring`: the ring in the low byte,
-/// above it `len − back`, how far past the ring's head the value sits.
+/// above it the state word of the value when the head is 0. In a mirrored ring of `len` values
+/// at `at` with head `h`, that value sits at `at + 1 + h + len − back` (head < len and
+/// 1 ≤ len − back ≤ len, so within the two copies): no wrap to test on every read.
 fn tap(layout: &Layout, ring: usize, back: usize) -> u32 {
-    let (_, len) = layout.ring(ring);
-    // The view checked every lag against the rings' lengths (back < len ≤ MAX_LAG + 1).
+    let (at, len) = layout.ring(ring);
+    // The view checked every lag against the rings' lengths (back < len ≤ MAX_LAG + 1). Below
+    // 2^24 at the format's limits (2 · 33 · 1,025 + 4,097 + … words).
     let ahead = len - back.min(len - 1);
-    (ahead as u32) << 8 | ring as u32
+    ((at + 1 + ahead) as u32) << 8 | ring as u32
 }
 
 /// Index of the newest entry of the ring at `ring` (`len` values); always below `len` (a
