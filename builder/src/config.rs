@@ -43,6 +43,18 @@ pub enum ConfigError {
         /// The parser's message, with line and column.
         message: String,
     },
+    /// The file parsed as YAML but is not a mapping of keys (a data export passed by mistake,
+    /// an empty file).
+    #[error(
+        "{path} is not a regimix config: {found}; a config is a YAML mapping with `data`, \
+         `sample-time`, `target` and `inputs` (docs/config.md; demo-data/c301.yaml is an example)"
+    )]
+    NotAConfig {
+        /// The config path.
+        path: PathBuf,
+        /// What the file holds instead, in plain words.
+        found: String,
+    },
     /// A value breaks one of the rules in `docs/config.md`.
     #[error("{path}: `{key}` {problem}")]
     Invalid {
@@ -677,7 +689,15 @@ impl Config {
 impl RawConfig {
     /// Parses YAML text; `path` is only used in messages.
     pub fn parse(text: &str, path: &Path) -> Result<RawConfig, ConfigError> {
-        serde_norway::from_str(text).map_err(|err| explain_yaml_error(&err, path))
+        serde_norway::from_str(text).map_err(|err| {
+            match serde_norway::from_str::<serde_norway::Value>(text) {
+                Ok(value) if !value.is_mapping() => ConfigError::NotAConfig {
+                    path: path.to_path_buf(),
+                    found: not_a_mapping(&value, text),
+                },
+                _ => explain_yaml_error(&err, path),
+            }
+        })
     }
 
     /// Applies the rules of `docs/config.md`; relative paths are resolved against `base`.
@@ -1148,6 +1168,34 @@ impl RawConfig {
     }
 }
 
+/// What a YAML document that is not a mapping holds, for [`ConfigError::NotAConfig`].
+fn not_a_mapping(value: &serde_norway::Value, text: &str) -> String {
+    let first = text
+        .lines()
+        .map(str::trim)
+        .find(|l| !l.is_empty())
+        .unwrap_or("");
+    let separators = first.matches([',', ';', '\t']).count();
+    match value {
+        serde_norway::Value::Null => "the file is empty".to_string(),
+        serde_norway::Value::String(_) if separators >= 2 => format!(
+            "it reads like a data export (first line `{}`); name the export under `data.files` \
+             in a config and pass the config",
+            clip(first, 80)
+        ),
+        serde_norway::Value::Sequence(_) => "it holds a list".to_string(),
+        _ => format!("it holds a single value (first line `{}`)", clip(first, 80)),
+    }
+}
+
+/// `text` cut to at most `max` characters, with `…` where it was cut.
+fn clip(text: &str, max: usize) -> String {
+    match text.char_indices().nth(max) {
+        Some((at, _)) => format!("{}…", &text[..at]),
+        None => text.to_string(),
+    }
+}
+
 /// Turns the YAML parser's message into ours; unknown keys get the nearest valid names.
 fn explain_yaml_error(err: &serde_norway::Error, path: &Path) -> ConfigError {
     let message = err.to_string();
@@ -1175,6 +1223,15 @@ fn explain_yaml_error(err: &serde_norway::Error, path: &Path) -> ConfigError {
             hint,
         };
     }
+    // The parser quotes the offending value whole: a long one is cut in the middle, keeping
+    // the line and column at the end.
+    let chars = message.chars().count();
+    let message = if chars > 400 {
+        let tail: String = message.chars().skip(chars - 120).collect();
+        format!("{} … {tail}", clip(&message, 240).trim_end_matches('…'))
+    } else {
+        message
+    };
     ConfigError::Syntax {
         path: path.to_path_buf(),
         message,
@@ -1332,6 +1389,38 @@ inputs:
         assert!(err.contains("valid keys here"), "{err}");
     }
 
+    #[test]
+    fn a_data_export_passed_as_config_is_named_not_echoed() {
+        // A delimited export is one long YAML string: the message must say what it is and
+        // stay short, not quote the whole file back.
+        let mut export = String::from("Zeit;FT-101;FT-102;TT-110\n");
+        for k in 0..5000 {
+            export.push_str(&format!("01.01.2026 00:{:02}:00;40,5;5,9;95,2\n", k % 60));
+        }
+        let err = load(&export).expect_err("not a config").to_string();
+        assert!(err.contains("is not a regimix config"), "{err}");
+        assert!(err.contains("reads like a data export"), "{err}");
+        assert!(err.contains("`Zeit;FT-101;FT-102;TT-110`"), "{err}");
+        assert!(err.len() < 400, "{} bytes: {err}", err.len());
+
+        let err = load("").expect_err("empty").to_string();
+        assert!(err.contains("the file is empty"), "{err}");
+        let err = load("- a\n- b\n").expect_err("list").to_string();
+        assert!(err.contains("holds a list"), "{err}");
+    }
+
+    #[test]
+    fn a_long_value_of_the_wrong_type_is_cut_in_the_middle() {
+        let long = "x".repeat(5000);
+        let text = MINIMAL.replace(
+            "sample-time: 1min",
+            &format!("sample-time: 1min\ntarget: {long}"),
+        );
+        let err = load(&text).expect_err("wrong type").to_string();
+        assert!(err.len() < 600, "{} bytes: {err}", err.len());
+        assert!(err.contains(" … "), "{err}");
+        assert!(err.contains("line 6"), "the location stays: {err}");
+    }
     #[test]
     fn durations_need_units() {
         let err = load(&MINIMAL.replace("sample-time: 1min", "sample-time: 60"))

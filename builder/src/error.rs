@@ -115,12 +115,41 @@ pub enum DataError {
         /// What to do: [`backwards_hint`].
         hint: &'static str,
     },
+    /// An error in files whose settings live under a config section of their own (the lab
+    /// files, under `target.lab`): a hint to set a key says where.
+    #[error("{inner}{}", where_to_set(inner, section))]
+    InSection {
+        /// Dotted section, e.g. `target.lab`.
+        section: &'static str,
+        /// The error as the reader gave it.
+        inner: Box<DataError>,
+    },
     /// After resampling, nothing is left to work with.
     #[error("the data span less than two sample-times ({detail}); export a longer period")]
     TooShort {
         /// Detail.
         detail: String,
     },
+}
+
+impl DataError {
+    /// This error, for files whose settings live under `section` rather than `data`.
+    pub fn in_section(self, section: &'static str) -> DataError {
+        DataError::InSection {
+            section,
+            inner: Box::new(self),
+        }
+    }
+}
+
+/// ` (under `target.lab`)` when `inner`'s message tells the user to set a key, else nothing.
+fn where_to_set(inner: &DataError, section: &str) -> String {
+    let message = inner.to_string();
+    if message.contains("set `") {
+        format!(" (these files' settings go under `{section}`)")
+    } else {
+        String::new()
+    }
 }
 
 /// Advice for a file whose time steps back by `back_micros`: a step of at most an hour is what

@@ -63,7 +63,7 @@ pub fn read_lab_files(lab: &LabSpec, tag: &str) -> Result<LabSamples, DataError>
         date_order: lab.date_order,
         long_format: lab.long_format.as_ref(),
     };
-    let table = historian::read_files(&lab.files, &spec)?;
+    let table = historian::read_files(&lab.files, &spec).map_err(|e| e.in_section("target.lab"))?;
     let files = table.files;
     let column = table
         .columns
@@ -247,6 +247,30 @@ mod tests {
         // 09:15 at UTC+01:00 is 08:15Z: 1772439300 s since the epoch (Python's datetime).
         assert_eq!(samples.times, vec![1_772_439_300 * 1_000_000]);
         assert_eq!(samples.column.values, vec![0.42]);
+
+        // The same file read with the data's `,`: the hint to set the delimiter says where.
+        let lab = LabSpec {
+            delimiter: b',',
+            ..lab
+        };
+        let err = read_lab_files(&lab, "XA-1")
+            .expect_err("wrong delimiter")
+            .to_string();
+        assert!(err.contains("set `delimiter: \";\"`"), "{err}");
+        assert!(
+            err.ends_with("(these files' settings go under `target.lab`)"),
+            "{err}"
+        );
+        // Errors with nothing to set get no such note.
+        let lab = LabSpec {
+            delimiter: b';',
+            files: vec![dir.path().join("missing.csv")],
+            ..lab
+        };
+        let err = read_lab_files(&lab, "XA-1")
+            .expect_err("no file")
+            .to_string();
+        assert!(!err.contains("target.lab"), "{err}");
     }
 
     #[test]
