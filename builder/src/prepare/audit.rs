@@ -52,6 +52,9 @@ pub struct TagAudit {
     pub valid_percent: f64,
     /// Quality-marker text → count.
     pub markers: BTreeMap<String, u64>,
+    /// Of those cells, how many are numbers written with the other decimal mark than the
+    /// config's `decimal-mark` (a setting to change, not bad data).
+    pub misread_numbers: u64,
     /// Cells written as below a limit (`<0.01`).
     pub below_limit: usize,
     /// Of those, how many were used as values (a lab target's `below-limit: half` or `limit`).
@@ -136,6 +139,7 @@ impl TagAudit {
             observations: column.observations(),
             valid_percent: 100.0 * n as f64 / grid.len.max(1) as f64,
             markers: column.markers.clone(),
+            misread_numbers: 0, // counted by `Audit::new`, which knows the setting
             below_limit: column.below_limit(),
             below_limit_used: 0,
             out_of_range,
@@ -171,6 +175,7 @@ impl TagAudit {
             observations: rows,
             valid_percent: 100.0 * placement.placed as f64 / rows.max(1) as f64,
             markers: samples.column.markers.clone(),
+            misread_numbers: 0,
             below_limit: 0, // counted by the caller before the policy turns them into values
             below_limit_used: 0,
             out_of_range,
@@ -308,9 +313,61 @@ impl Audit {
             tags,
             warnings: Vec::new(),
         };
+        for tag in &mut audit.tags {
+            let (comma, _) = decimal_setting(config, tag);
+            tag.misread_numbers = tag
+                .markers
+                .iter()
+                .filter(|(text, _)| parse_number(text, !comma).is_some_and(f64::is_finite))
+                .map(|(_, n)| n)
+                .sum();
+        }
         audit.warnings = warnings(config, &audit, median);
         audit
     }
+}
+
+/// Whether `tag`'s cells were read with a decimal comma, and the key that says so.
+fn decimal_setting(config: &Config, tag: &TagAudit) -> (bool, &'static str) {
+    match config.target.lab.as_ref().filter(|l| !l.files.is_empty()) {
+        Some(lab) if tag.role == "target" => (lab.decimal_comma, "target.lab.decimal-mark"),
+        _ => (config.decimal_comma, "data.decimal-mark"),
+    }
+}
+
+impl TagAudit {
+    /// Most of the cells read as markers are numbers with the other decimal mark: the setting
+    /// is wrong, not the data.
+    pub fn decimal_mark_misread(&self) -> bool {
+        let markers: u64 = self.markers.values().sum();
+        self.misread_numbers > 0 && 2 * self.misread_numbers >= markers
+    }
+}
+
+/// `{who}: cells like `x` are numbers with a decimal comma: set `data.decimal-mark: ","``
+/// when some of `tag`'s marker cells are numbers with the other decimal mark.
+fn decimal_mark_warning(config: &Config, tag: &TagAudit, who: &str) -> Option<String> {
+    let (comma, key) = decimal_setting(config, tag);
+    let text = tag
+        .markers
+        .keys()
+        .find(|t| parse_number(t, !comma).is_some_and(f64::is_finite))?;
+    let other = if comma { '.' } else { ',' };
+    // `12,345`: a decimal comma, or a comma grouping thousands; the text cannot tell.
+    let grouping = text.matches(other).count() == 1
+        && text
+            .rsplit(other)
+            .next()
+            .is_some_and(|t| t.len() == 3 && t.bytes().all(|b| b.is_ascii_digit()));
+    Some(format!(
+        "{who}: cells like `{text}` are numbers with a decimal {}: set `{key}: \"{other}\"`{}",
+        if comma { "point" } else { "comma" },
+        if grouping {
+            format!(" (if the `{other}` groups thousands instead, export the numbers without digit grouping)")
+        } else {
+            String::new()
+        }
+    ))
 }
 
 /// Below this many usable target samples a model cannot be fitted and validated honestly
@@ -322,6 +379,28 @@ const MARKER_TEXTS: usize = 8;
 
 fn warnings(config: &Config, audit: &Audit, median: Option<i64>) -> Vec<String> {
     let mut out = Vec::new();
+    // A wrong decimal mark turns whole columns into text: one warning per setting, first, and
+    // none of the findings that follow from it (markers, unusable samples) for those tags.
+    let mut misread: BTreeMap<&str, Vec<&TagAudit>> = BTreeMap::new();
+    for tag in audit.tags.iter().filter(|t| t.decimal_mark_misread()) {
+        misread
+            .entry(decimal_setting(config, tag).1)
+            .or_default()
+            .push(tag);
+    }
+    for tags in misread.values() {
+        let names: Vec<&str> = tags.iter().map(|t| t.tag.as_str()).collect();
+        let who = match names.as_slice() {
+            [one] => one.to_string(),
+            [a, b] => format!("{a} and {b}"),
+            [a, b, c] => format!("{a}, {b} and {c}"),
+            [a, b, c, rest @ ..] => format!("{a}, {b}, {c} and {} more tags", rest.len()),
+            [] => continue,
+        };
+        if let Some(warning) = decimal_mark_warning(config, tags[0], &who) {
+            out.push(format!("{warning}; until then these cells read as text"));
+        }
+    }
     let ts = config.sample_time;
     if let Some(m) = median {
         let m = Span::from_micros(m);
@@ -365,7 +444,7 @@ fn warnings(config: &Config, audit: &Audit, median: Option<i64>) -> Vec<String> 
                 100.0 - tag.valid_percent,
                 config.hold_limit
             ));
-        } else if tag.role == "input" && tag.valid_percent < 80.0 {
+        } else if tag.role == "input" && tag.valid_percent < 80.0 && !tag.decimal_mark_misread() {
             out.push(format!(
                 "{name}: only {:.1} % of samples are usable (gaps, quality markers, frozen values, spikes or out of range)",
                 tag.valid_percent
@@ -378,41 +457,15 @@ fn warnings(config: &Config, audit: &Audit, median: Option<i64>) -> Vec<String> 
             ));
         }
         let marker_total: u64 = tag.markers.values().sum();
-        if marker_total > 0 {
+        if marker_total > 0 && !tag.decimal_mark_misread() {
             let kinds: Vec<&str> = tag.markers.keys().map(String::as_str).take(4).collect();
             out.push(format!(
                 "{name}: {} with quality markers ({})",
                 counted(marker_total, "cell", "cells"),
                 kinds.join(", ")
             ));
-            // Numbers written with the other decimal mark read as text: say so.
-            let lab_files = config.target.lab.as_ref().filter(|l| !l.files.is_empty());
-            let (comma, key) = match lab_files {
-                Some(lab) if tag.role == "target" => (lab.decimal_comma, "target.lab.decimal-mark"),
-                _ => (config.decimal_comma, "data.decimal-mark"),
-            };
-            if let Some(text) = tag
-                .markers
-                .keys()
-                .find(|t| parse_number(t, !comma).is_some_and(f64::is_finite))
-            {
-                let other = if comma { '.' } else { ',' };
-                // `12,345`: a decimal comma, or a comma grouping thousands; the text cannot tell.
-                let grouping = text.matches(other).count() == 1
-                    && text
-                        .rsplit(other)
-                        .next()
-                        .is_some_and(|t| t.len() == 3 && t.bytes().all(|b| b.is_ascii_digit()));
-                out.push(format!(
-                    "{name}: cells like `{text}` are numbers with a decimal {}: set `{key}: \"{other}\"`{}",
-                    if comma { "point" } else { "comma" },
-                    if grouping {
-                        format!(" (if the `{other}` groups thousands instead, export the numbers without digit grouping)")
-                    } else {
-                        String::new()
-                    }
-                ));
-            }
+            // Some numbers written with the other decimal mark among the markers: say so.
+            out.extend(decimal_mark_warning(config, tag, name));
         }
         below_limit_warnings(config, tag, &mut out);
         if tag.out_of_range > 0 {
@@ -655,13 +708,29 @@ impl fmt::Display for Audit {
             writeln!(f, "Quality markers")?;
             for t in with_markers {
                 // The most frequent texts first; a column of numbers the reader could not parse
-                // would otherwise list every value.
-                let mut texts: Vec<(&String, &u64)> = t.markers.iter().collect();
-                texts.sort_by(|a, b| b.1.cmp(a.1).then(a.0.cmp(b.0)));
-                let mut list: Vec<String> = texts
+                // would otherwise list every value. Numbers with the other decimal mark are
+                // counted as one item (the warnings name the setting).
+                let number = |k: &str| {
+                    [false, true]
+                        .into_iter()
+                        .any(|comma| parse_number(k, comma).is_some_and(f64::is_finite))
+                };
+                let mut texts: Vec<(&String, &u64)> = t
+                    .markers
                     .iter()
-                    .take(MARKER_TEXTS)
-                    .map(|(k, v)| format!("\"{k}\" ×{v}"))
+                    .filter(|(k, _)| t.misread_numbers == 0 || !number(k))
+                    .collect();
+                texts.sort_by(|a, b| b.1.cmp(a.1).then(a.0.cmp(b.0)));
+                let misread = (t.misread_numbers > 0)
+                    .then(|| format!("numbers with the other decimal mark ×{}", t.misread_numbers));
+                let mut list: Vec<String> = misread
+                    .into_iter()
+                    .chain(
+                        texts
+                            .iter()
+                            .take(MARKER_TEXTS)
+                            .map(|(k, v)| format!("\"{k}\" ×{v}")),
+                    )
                     .collect();
                 if texts.len() > MARKER_TEXTS {
                     let rest: u64 = texts[MARKER_TEXTS..].iter().map(|(_, v)| **v).sum();
