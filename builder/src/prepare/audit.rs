@@ -23,14 +23,20 @@ pub struct Period {
     pub duration: String,
     /// Grid samples in the stretch.
     pub samples: usize,
+    /// Start and end (exclusive) in microseconds since the epoch, for comparing stretches.
+    #[serde(skip)]
+    pub span: (i64, i64),
 }
 
 impl Period {
     fn from_stretch(stretch: &Stretch, grid: &Grid) -> Period {
+        let from = grid.time(stretch.start);
+        let length = stretch.len as i64 * grid.step;
         Period {
-            start: Rfc3339(grid.time(stretch.start)).to_string(),
-            duration: Span::from_micros(stretch.len as i64 * grid.step).to_string(),
+            start: Rfc3339(from).to_string(),
+            duration: Span::from_micros(length).to_string(),
             samples: stretch.len,
+            span: (from, from + length),
         }
     }
 }
@@ -298,6 +304,7 @@ impl Audit {
                 start: Rfc3339(at).to_string(),
                 duration: Span::from_micros(gap).to_string(),
                 samples: (gap / config.sample_time.micros()) as usize,
+                span: (at, at + gap),
             }),
             target: TargetAudit {
                 source: config.target.source,
@@ -342,6 +349,75 @@ impl TagAudit {
         let markers: u64 = self.markers.values().sum();
         self.misread_numbers > 0 && 2 * self.misread_numbers >= markers
     }
+}
+
+/// `A`, `A and B`, `A, B and C`, or `A, B, C and 4 more tags`.
+fn tag_list(names: &[&str]) -> String {
+    match names {
+        [] => String::new(),
+        [one] => one.to_string(),
+        [a, b] => format!("{a} and {b}"),
+        [a, b, c] => format!("{a}, {b} and {c}"),
+        [a, b, c, rest @ ..] => format!("{a}, {b}, {c} and {} more tags", rest.len()),
+    }
+}
+
+/// Groups of input tags frozen over the same stretch (each member overlapping the group's
+/// first stretch by at least half the longer of the two), with at least three tags, or every
+/// input when there are two: a whole unit standing still, not a transmitter.
+fn frozen_together(tags: &[TagAudit]) -> Vec<Vec<(&String, &Period)>> {
+    let inputs = tags.iter().filter(|t| t.role == "input").count();
+    let needed = inputs.clamp(2, 3);
+    let mut stretches: Vec<(&String, &Period)> = tags
+        .iter()
+        .filter(|t| t.role == "input")
+        .flat_map(|t| t.frozen.iter().map(move |p| (&t.tag, p)))
+        .collect();
+    stretches.sort_by_key(|(_, p)| p.span);
+    let mut taken = vec![false; stretches.len()];
+    let mut groups = Vec::new();
+    for i in 0..stretches.len() {
+        if taken[i] {
+            continue;
+        }
+        let (first_tag, anchor) = stretches[i];
+        let mut group = vec![(first_tag, anchor)];
+        let mut members = vec![i];
+        for (j, &(tag, p)) in stretches.iter().enumerate().skip(i + 1) {
+            if taken[j] || group.iter().any(|(t, _)| *t == tag) {
+                continue;
+            }
+            let overlap = anchor.span.1.min(p.span.1) - anchor.span.0.max(p.span.0);
+            let longer = (anchor.span.1 - anchor.span.0).max(p.span.1 - p.span.0);
+            if 2 * overlap >= longer {
+                group.push((tag, p));
+                members.push(j);
+            }
+        }
+        if group.len() < needed {
+            continue;
+        }
+        // A member's stretch broken by a marker cell: its other pieces inside the group's
+        // span belong to it too.
+        let from = group.iter().map(|(_, p)| p.span.0).min().unwrap_or(0);
+        let to = group.iter().map(|(_, p)| p.span.1).max().unwrap_or(0);
+        for (j, &(tag, p)) in stretches.iter().enumerate() {
+            let inside = to.min(p.span.1) - from.max(p.span.0);
+            let member = group.iter().any(|(t, _)| *t == tag);
+            if !taken[j] && !members.contains(&j) && member && 2 * inside >= p.span.1 - p.span.0 {
+                group.push((tag, p));
+                members.push(j);
+            }
+        }
+        for j in members {
+            taken[j] = true;
+        }
+        // In the audit's (the config's) order.
+        let rank = |tag: &String| tags.iter().position(|t| &t.tag == tag);
+        group.sort_by_key(|&(tag, p)| (rank(tag), p.span));
+        groups.push(group);
+    }
+    groups
 }
 
 /// `{who}: cells like `x` are numbers with a decimal comma: set `data.decimal-mark: ","``
@@ -390,16 +466,28 @@ fn warnings(config: &Config, audit: &Audit, median: Option<i64>) -> Vec<String> 
     }
     for tags in misread.values() {
         let names: Vec<&str> = tags.iter().map(|t| t.tag.as_str()).collect();
-        let who = match names.as_slice() {
-            [one] => one.to_string(),
-            [a, b] => format!("{a} and {b}"),
-            [a, b, c] => format!("{a}, {b} and {c}"),
-            [a, b, c, rest @ ..] => format!("{a}, {b}, {c} and {} more tags", rest.len()),
-            [] => continue,
+        let Some(first) = tags.first() else {
+            continue;
         };
-        if let Some(warning) = decimal_mark_warning(config, tags[0], &who) {
+        if let Some(warning) = decimal_mark_warning(config, first, &tag_list(&names)) {
             out.push(format!("{warning}; until then these cells read as text"));
         }
+    }
+    // Many tags frozen over the same stretch: one warning for the stretch, not one per tag.
+    let mut together: Vec<(&String, (i64, i64))> = Vec::new();
+    for group in frozen_together(&audit.tags) {
+        let mut names: Vec<&str> = group.iter().map(|(t, _)| t.as_str()).collect();
+        names.dedup();
+        let from = group.iter().map(|(_, p)| p.span.0).min().unwrap_or(0);
+        let to = group.iter().map(|(_, p)| p.span.1).max().unwrap_or(0);
+        out.push(format!(
+            "{} froze together for {} from {}: a shutdown, a trip or a historian fault rather \
+             than the transmitters; these samples are left out like any frozen value",
+            tag_list(&names),
+            Span::from_micros(to - from),
+            Rfc3339(from)
+        ));
+        together.extend(group.into_iter().map(|(t, p)| (t, p.span)));
     }
     let ts = config.sample_time;
     if let Some(m) = median {
@@ -450,7 +538,11 @@ fn warnings(config: &Config, audit: &Audit, median: Option<i64>) -> Vec<String> 
                 tag.valid_percent
             ));
         }
-        for f in &tag.frozen {
+        for f in tag
+            .frozen
+            .iter()
+            .filter(|f| !together.contains(&(name, f.span)))
+        {
             out.push(format!(
                 "{name}: frozen for {} from {} — check the transmitter and its historian compression; a setpoint or a state that legitimately holds still needs a longer `frozen-after` on this tag",
                 f.duration, f.start
@@ -768,5 +860,80 @@ impl fmt::Display for Audit {
             }
         }
         Ok(())
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    const HOUR: i64 = 3_600_000_000;
+
+    /// An input tag frozen over the given (start, end) hours.
+    fn input(name: &str, frozen: &[(i64, i64)]) -> TagAudit {
+        TagAudit {
+            tag: name.to_string(),
+            unit: String::new(),
+            role: "input",
+            rows: 0,
+            observations: 0,
+            valid_percent: 100.0,
+            markers: BTreeMap::new(),
+            misread_numbers: 0,
+            below_limit: 0,
+            below_limit_used: 0,
+            out_of_range: 0,
+            frozen: frozen
+                .iter()
+                .map(|&(a, b)| Period {
+                    start: Rfc3339(a * HOUR).to_string(),
+                    duration: Span::from_micros((b - a) * HOUR).to_string(),
+                    samples: (b - a) as usize,
+                    span: (a * HOUR, b * HOUR),
+                })
+                .collect(),
+            spikes: 0,
+            outside_transform: 0,
+            min: None,
+            mean: None,
+            max: None,
+            longest_gap: None,
+        }
+    }
+
+    fn names(group: &[(&String, &Period)]) -> Vec<String> {
+        group.iter().map(|(t, _)| t.to_string()).collect()
+    }
+
+    #[test]
+    fn tags_frozen_over_one_stretch_form_one_group_with_their_broken_pieces() {
+        // A shutdown from hour 100 to 136 freezes C, A, D (in two pieces, split by a marker)
+        // and B; B also freezes alone earlier, E only elsewhere.
+        let tags = [
+            input("A", &[(100, 136)]),
+            input("B", &[(10, 30), (101, 136)]),
+            input("C", &[(100, 135)]),
+            input("D", &[(100, 112), (113, 136)]),
+            input("E", &[(200, 230)]),
+        ];
+        let groups = frozen_together(&tags);
+        assert_eq!(groups.len(), 1);
+        assert_eq!(names(&groups[0]), ["A", "B", "C", "D", "D"]);
+        let config_order: Vec<(i64, i64)> = groups[0].iter().map(|(_, p)| p.span).collect();
+        assert_eq!(config_order[3], (100 * HOUR, 112 * HOUR));
+    }
+
+    #[test]
+    fn two_of_many_or_barely_overlapping_stretches_stay_separate() {
+        let tags = [
+            input("A", &[(100, 136)]),
+            input("B", &[(100, 136)]),
+            input("C", &[]),
+            input("D", &[(130, 170)]), // overlaps A's by 6 h of 40
+        ];
+        assert!(frozen_together(&tags).is_empty());
+        // With only two inputs, both frozen together is the whole unit.
+        let pair = [input("A", &[(100, 136)]), input("B", &[(102, 136)])];
+        assert_eq!(frozen_together(&pair).len(), 1);
     }
 }
