@@ -557,6 +557,12 @@ pub fn build(config: &Config, progress: &dyn Fn(&str)) -> Result<Built, BuildErr
             .collect::<Vec<_>>(),
         config.sample_time,
     );
+    notes.extend(regime_note(
+        partition.collapsed(),
+        partition.shrinkage,
+        m.shrinkage,
+        vars.len(),
+    ));
     notes.extend(accuracy_note(&test, &baseline));
     Ok(Built {
         prepared: prepared.clone(),
@@ -578,6 +584,28 @@ pub fn build(config: &Config, progress: &dyn Fn(&str)) -> Result<Built, BuildErr
         refined,
         notes,
     })
+}
+
+/// A note when the clustering had to raise the covariance shrinkage from `configured` to `used`
+/// to keep the regimes apart, or when they fell onto one point even so ([`crate::regimes::cluster`]).
+pub fn regime_note(
+    collapsed: bool,
+    used: f64,
+    configured: f64,
+    variables: usize,
+) -> Option<String> {
+    let advice = "list under `regimes.variables` the few tags that say where the plant operates (throughput, feed quality, a key temperature)";
+    if collapsed {
+        Some(format!(
+            "the regimes fell onto one operating point on the {variables} scheduling variables at every covariance shrinkage up to {used}: the data show no separate operating regions there, so the blend is one linear model; {advice}"
+        ))
+    } else if used > configured {
+        Some(format!(
+            "the Gustafson–Kessel regimes fell onto one point (every membership equal) with shrinkage {configured} on {variables} scheduling variables; they stay apart with {used}, which the model uses. To schedule on what separates the regimes, {advice}"
+        ))
+    } else {
+        None
+    }
 }
 
 /// A note when the blend is no more accurate than the global linear model on the test block.
@@ -622,6 +650,20 @@ pub fn structure_notes(
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn raised_or_failed_shrinkage_gets_a_note() {
+        assert_eq!(regime_note(false, 0.01, 0.01, 9), None);
+        let raised = regime_note(false, 0.3, 0.01, 12).expect("raised");
+        assert!(
+            raised.contains("with shrinkage 0.01 on 12 scheduling variables"),
+            "{raised}"
+        );
+        assert!(raised.contains("stay apart with 0.3"), "{raised}");
+        let failed = regime_note(true, 1.0, 0.01, 12).expect("collapsed");
+        assert!(failed.contains("one linear model"), "{failed}");
+        assert!(failed.contains("`regimes.variables`"), "{failed}");
+    }
 
     #[test]
     fn a_delay_on_the_search_limit_gets_a_note() {

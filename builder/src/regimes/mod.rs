@@ -191,6 +191,9 @@ pub struct Partition {
     pub converged: bool,
     /// Fuzziness used.
     pub fuzziness: f64,
+    /// Covariance shrinkage γ the norms were built with: the configured one, or a larger one
+    /// [`cluster`] stepped up to because the regimes fell onto one point.
+    pub shrinkage: f64,
 }
 
 impl Partition {
@@ -226,7 +229,26 @@ impl Partition {
     pub fn row(&self, k: usize) -> Vec<f64> {
         (0..self.count()).map(|i| self.membership(k, i)).collect()
     }
+
+    /// Two regimes' centers closer than [`SAME_POINT`] (scaled units): the partition has fallen
+    /// onto fewer operating points than it has regimes.
+    pub fn collapsed(&self) -> bool {
+        self.centers.iter().enumerate().any(|(i, a)| {
+            self.centers[i + 1..].iter().any(|b| {
+                let d2: f64 = a.iter().zip(b).map(|(x, y)| (x - y) * (x - y)).sum();
+                d2 < SAME_POINT * SAME_POINT
+            })
+        })
+    }
 }
+
+/// Centers closer than this (in standard deviations of the scaled data, Euclidean) are one
+/// operating point: no membership can tell them apart.
+pub const SAME_POINT: f64 = 0.1;
+
+/// Shrinkages [`cluster`] steps up to when the GK regimes fall onto one point; 1 makes every
+/// norm the scaled identity (fuzzy c-means' distance).
+pub const SHRINKAGE_STEPS: [f64; 4] = [0.1, 0.3, 0.6, 1.0];
 
 fn moments(sums: &[Sums], refs: &[Vec<f64>]) -> (Vec<Vec<f64>>, Vec<Vec<f64>>) {
     sums.iter()
@@ -291,6 +313,7 @@ pub fn fuzzy_c_means(
         iterations,
         converged,
         fuzziness: m,
+        shrinkage: 1.0, // Euclidean norms: the identity
     }
 }
 
@@ -385,6 +408,7 @@ pub fn gustafson_kessel(
         iterations,
         converged,
         fuzziness: params.fuzziness,
+        shrinkage: params.regularization.shrinkage,
     })
 }
 
@@ -431,9 +455,34 @@ fn check_data(data: &Columns) -> Result<Vec<f64>, RegimeError> {
     Ok(cov)
 }
 
-/// Clusters scaled data: for each restart, k-means++ seeding → FCM → GK; keeps the lowest objective.
+/// Clusters scaled data: for each restart, k-means++ seeding → FCM → GK; keeps the lowest
+/// objective among the partitions whose regimes stay apart. In many dimensions GK can fall onto
+/// the grand mean (every regime on one point, every membership 1/c) from a fuzzy c-means start
+/// that had separated the regimes: its norms whiten the data, which removes the spread that
+/// keeps fuzzy c-means off that point. Then the covariance shrinkage is stepped up through
+/// [`SHRINKAGE_STEPS`] (toward fuzzy c-means' distance) until the regimes stay apart; the
+/// partition records the shrinkage used. If they fall together at every step, the last
+/// partition is returned ([`Partition::collapsed`] tells).
 pub fn cluster(data: &Columns, params: &RegimeParams) -> Result<Partition, RegimeError> {
     params.check(data.len, data.dim)?;
+    let configured = params.regularization.shrinkage;
+    let steps = SHRINKAGE_STEPS.into_iter().filter(|&g| g > configured);
+    let mut last = None;
+    for shrinkage in std::iter::once(configured).chain(steps) {
+        let mut p = params.clone();
+        p.regularization.shrinkage = shrinkage;
+        let part = cluster_with(data, &p)?;
+        if !part.collapsed() {
+            return Ok(part);
+        }
+        last = Some(part);
+    }
+    last.ok_or(RegimeError::Restarts)
+}
+
+/// [`cluster`] at the configured shrinkage: the best restart, preferring regimes that stay
+/// apart.
+fn cluster_with(data: &Columns, params: &RegimeParams) -> Result<Partition, RegimeError> {
     let scale = data_scale(data, params)?;
     let mut best: Option<Partition> = None;
     for restart in 0..params.restarts {
@@ -448,7 +497,10 @@ pub fn cluster(data: &Columns, params: &RegimeParams) -> Result<Partition, Regim
             params.max_iterations,
         );
         let gk = gustafson_kessel(data, fcm, params, scale)?;
-        if best.as_ref().is_none_or(|b| gk.objective() < b.objective()) {
+        let better = best
+            .as_ref()
+            .is_none_or(|b| (gk.collapsed(), gk.objective()) < (b.collapsed(), b.objective()));
+        if better {
             best = Some(gk);
         }
     }

@@ -196,3 +196,54 @@ fn antecedent_projection_flags_samples_outside_the_trained_domain() {
     // About 1 % of training rows fall below the threshold by construction.
     assert!(ante.domain_threshold > 0.0 && ante.domain_threshold < 0.5);
 }
+
+/// Two operating points along five correlated variables (a throughput and what follows it),
+/// padded with `noise` independent variables, scaled: like a plant with two production rates
+/// and many tags that only carry noise.
+fn two_modes_among_noise(n: usize, noise: usize) -> Columns {
+    let mut rng = Lcg(11);
+    let dim = 5 + noise;
+    let mut rows = Vec::with_capacity(n * dim);
+    for k in 0..n {
+        let mode = if k % 2 == 0 { 1.0 } else { -1.0 };
+        let a = mode + 0.5 * rng.next();
+        rows.extend((0..5).map(|_| a + 0.5 * rng.next()));
+        rows.extend((0..noise).map(|_| rng.next()));
+    }
+    let scaling = scaling::Scaling::fit(&rows, dim);
+    for row in rows.chunks_exact_mut(dim) {
+        scaling.apply(row);
+    }
+    Columns::from_rows(&rows, dim)
+}
+
+/// Among many uninformative variables, GK from a separating fuzzy c-means start falls onto the
+/// grand mean (every membership 1/2); `cluster` then steps the shrinkage up until the two
+/// operating points are found again.
+#[test]
+fn regimes_that_fall_onto_one_point_are_kept_apart_by_more_shrinkage() {
+    let data = two_modes_among_noise(2000, 7);
+    let params = RegimeParams::new(2);
+    let plain = cluster_with(&data, &params).expect("cluster");
+    assert!(
+        plain.collapsed(),
+        "the case this guards against: {:?}",
+        plain.centers
+    );
+    let part = cluster(&data, &params).expect("cluster");
+    assert!(!part.collapsed(), "{:?}", part.centers);
+    assert!(part.shrinkage > params.regularization.shrinkage);
+    assert!(SHRINKAGE_STEPS.contains(&part.shrinkage));
+    // One regime on each operating point along the informative variables.
+    let mut first: Vec<f64> = part.centers.iter().map(|c| c[0]).collect();
+    first.sort_by(f64::total_cmp);
+    assert!(first[0] < -0.5 && first[1] > 0.5, "{first:?}");
+    // Where GK keeps them apart, nothing changes.
+    let three = three_regime_process(600);
+    let kept = cluster(&three, &RegimeParams::new(3)).expect("cluster");
+    assert_eq!(kept.shrinkage, 0.01);
+    assert_eq!(
+        kept,
+        cluster_with(&three, &RegimeParams::new(3)).expect("cluster")
+    );
+}
