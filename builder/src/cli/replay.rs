@@ -5,6 +5,7 @@ use std::path::Path;
 use anyhow::Context;
 use regimix_builder::config::TimestampColumns;
 use regimix_builder::output::write_atomic;
+use regimix_builder::prepare::audit::tag_list;
 use regimix_builder::replay::{read_inputs, replay, to_csv, CsvForm, TextCells};
 use regimix_builder::timestamp::{parse_offset, DateOrder};
 use regimix_format::ModelView;
@@ -75,6 +76,52 @@ fn as_options(message: &str) -> String {
     text
 }
 
+/// Lines for stderr about inputs with cells of text. Inputs that are mostly text reading as
+/// numbers with the other decimal mark share one line naming `--decimal-mark` (a setting, not
+/// the data); inputs with text in at most 1 % of the rows (quality markers now and then) share
+/// one line; every other input gets its own ([`text_warning`]).
+fn text_warnings(text: &[TextCells], decimal_comma: bool, rows: usize) -> Vec<String> {
+    let misread = |t: &&TextCells| t.other_decimal_mark && 2 * t.cells as usize > rows;
+    let (wrong_mark, others): (Vec<&TextCells>, Vec<&TextCells>) = text.iter().partition(misread);
+    let (few, others): (Vec<&TextCells>, Vec<&TextCells>) = others
+        .into_iter()
+        .partition(|t| 100 * t.cells as usize <= rows && !t.other_decimal_mark);
+    let mut lines = Vec::new();
+    if let Some(first) = wrong_mark.first() {
+        let other = if decimal_comma { '.' } else { ',' };
+        let names: Vec<&str> = wrong_mark.iter().map(|t| t.tag.as_str()).collect();
+        lines.push(format!(
+            "warning: {}: most cells are text that reads as numbers with a decimal `{other}` (like `{}`): pass `--decimal-mark {other}`; until then the runtime treats them as invalid inputs",
+            tag_list(&names),
+            first.example
+        ));
+    }
+    if !few.is_empty() {
+        let total: u64 = few.iter().map(|t| t.cells).sum();
+        let counts: Vec<String> = few
+            .iter()
+            .map(|t| format!("{} ×{}", t.tag, t.cells))
+            .collect();
+        let shown = counts.len().min(6);
+        let more = if counts.len() > shown {
+            format!(" and {} more inputs", counts.len() - shown)
+        } else {
+            String::new()
+        };
+        lines.push(format!(
+            "note: {total} cells of text such as `{}` ({}{more}); the runtime treats them as invalid inputs",
+            few[0].example,
+            counts[..shown].join(", ")
+        ));
+    }
+    lines.extend(
+        others
+            .into_iter()
+            .map(|t| text_warning(t, decimal_comma, rows)),
+    );
+    lines
+}
+
 /// One line on stderr for an input with cells of text: how many, the most frequent, and the
 /// option to pass when they are numbers with the other decimal mark.
 fn text_warning(t: &TextCells, decimal_comma: bool, rows: usize) -> String {
@@ -105,11 +152,8 @@ pub fn run(
         .map_err(|e| anyhow::anyhow!(as_options(&format!("{:#}", anyhow::Error::from(e)))))?;
     let replayed = replay(&bytes, &inputs.times, &inputs.rows)
         .with_context(|| format!("{}", model_path.display()))?;
-    for t in &inputs.text {
-        eprintln!(
-            "{}",
-            text_warning(t, form.decimal_comma, inputs.times.len())
-        );
+    for line in text_warnings(&inputs.text, form.decimal_comma, inputs.times.len()) {
+        eprintln!("{line}");
     }
     let text = to_csv(&replayed, model.n_regimes());
     match out {
@@ -124,7 +168,48 @@ pub fn run(
 
 #[cfg(test)]
 mod tests {
-    use super::as_options;
+    use super::{as_options, text_warnings};
+    use regimix_builder::replay::TextCells;
+
+    fn cells(tag: &str, cells: u64, example: &str, other: bool) -> TextCells {
+        TextCells {
+            tag: tag.into(),
+            cells,
+            example: example.into(),
+            other_decimal_mark: other,
+        }
+    }
+
+    #[test]
+    fn inputs_misread_by_the_decimal_mark_share_one_warning() {
+        let text = [
+            cells("FT-1", 1000, "0,000", true),
+            cells("FT-2", 990, "5,4", true),
+            cells("TI-3", 30, "Bad", false),
+            cells("TI-4", 2, "1,5", true), // a few such cells among numbers: its own line
+            cells("TI-5", 4, "Comm Fail", false), // markers now and then: one line for all
+            cells("TI-6", 1, "Bad", false),
+        ];
+        let lines = text_warnings(&text, false, 1000);
+        assert_eq!(lines.len(), 4, "{lines:#?}");
+        assert!(
+            lines[0].starts_with("warning: FT-1 and FT-2: most cells are text")
+                && lines[0].contains("pass `--decimal-mark ,`"),
+            "{}",
+            lines[0]
+        );
+        assert_eq!(
+            lines[1],
+            "note: 5 cells of text such as `Comm Fail` (TI-5 ×4, TI-6 ×1); the runtime treats \
+             them as invalid inputs"
+        );
+        assert!(
+            lines[2].starts_with("warning: TI-3: 30 of 1000 cells"),
+            "{}",
+            lines[2]
+        );
+        assert!(lines[3].contains("pass `--decimal-mark ,`"), "{}", lines[3]);
+    }
 
     #[test]
     fn config_hints_become_options() {

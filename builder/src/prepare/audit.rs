@@ -352,7 +352,7 @@ impl TagAudit {
 }
 
 /// `A`, `A and B`, `A, B and C`, or `A, B, C and 4 more tags`.
-fn tag_list(names: &[&str]) -> String {
+pub fn tag_list(names: &[&str]) -> String {
     match names {
         [] => String::new(),
         [one] => one.to_string(),
