@@ -250,6 +250,83 @@ fn replay_hints_name_its_options() {
     );
 }
 
+/// `replay --like CONFIG` reads the CSV as the config's `data` section says (the export the
+/// model was built from), giving the same table as the options spelled out; a hint then names
+/// the config's keys, and the options cannot be mixed in.
+#[test]
+fn replay_like_a_config_reads_its_data_form() {
+    let dir = tempfile::tempdir().expect("tempdir");
+    let model = tiny_model();
+    write(
+        dir.path(),
+        "semi.csv",
+        "Zeit;TI-1\n02.03.2026 12:59:00;101,5\n02.03.2026 13:00:00;99,0\n02.03.2026 13:01:00;Bad\n",
+    );
+    let config = "data:\n  files: [semi.csv]\n  timestamp: Zeit\n  delimiter: \";\"\n  \
+                  decimal-mark: \",\"\n  date-order: dmy\n  naive-offset: \"+01:00\"\n\
+                  sample-time: 1min\ntarget: { tag: Y, source: analyzer }\ninputs:\n  - tag: TI-1\n";
+    write(dir.path(), "c.yaml", config);
+    let like = regimix(
+        dir.path(),
+        &["replay", &model, "semi.csv", "--like", "c.yaml"],
+    );
+    assert!(
+        like.status.success(),
+        "{}",
+        String::from_utf8_lossy(&like.stderr)
+    );
+    let spelled = regimix(
+        dir.path(),
+        &[
+            "replay",
+            &model,
+            "semi.csv",
+            "--timestamp",
+            "Zeit",
+            "--delimiter",
+            ";",
+            "--decimal-mark",
+            ",",
+            "--date-order",
+            "dmy",
+            "--naive-offset",
+            "+01:00",
+        ],
+    );
+    assert!(
+        spelled.status.success(),
+        "{}",
+        String::from_utf8_lossy(&spelled.stderr)
+    );
+    assert_eq!(like.stdout, spelled.stdout);
+    assert!(String::from_utf8_lossy(&like.stdout).contains("2026-03-02T11:59:00Z"));
+
+    write(
+        dir.path(),
+        "c.yaml",
+        &config.replace("  date-order: dmy\n", ""),
+    );
+    let out = regimix(
+        dir.path(),
+        &["replay", &model, "semi.csv", "--like", "c.yaml"],
+    );
+    assert_clean_failure(&out, "set `date-order` to `dmy` or `mdy`");
+    let out = regimix(
+        dir.path(),
+        &[
+            "replay",
+            &model,
+            "semi.csv",
+            "--like",
+            "c.yaml",
+            "--delimiter",
+            ";",
+        ],
+    );
+    assert!(!out.status.success());
+    assert!(String::from_utf8_lossy(&out.stderr).contains("cannot be used with"));
+}
+
 /// `replay --naive-offset` reads timestamps without an offset as local time at that offset (the
 /// output is UTC); the estimates are the same; a malformed offset is a clean error.
 #[test]

@@ -64,6 +64,13 @@ enum Command {
         /// Write the table here (atomically) instead of to stdout.
         #[arg(long)]
         out: Option<PathBuf>,
+        /// Read the CSV as this project config's `data` section describes it (timestamp,
+        /// delimiter, decimal mark, date order, offset, long format) instead of the options
+        /// below.
+        #[arg(long, value_name = "CONFIG", conflicts_with_all = [
+            "timestamp", "delimiter", "decimal_mark", "date_order", "naive_offset", "long_format"
+        ])]
+        like: Option<PathBuf>,
         /// Timestamp column (default: the first column), or a date column and a time-of-day
         /// column: `--timestamp date time`.
         #[arg(long, num_args = 1..=2, value_names = ["COLUMN", "TIME_COLUMN"])]
@@ -125,6 +132,7 @@ pub fn run(cli: Cli) -> anyhow::Result<()> {
             model,
             data,
             out,
+            like,
             timestamp,
             delimiter,
             decimal_mark,
@@ -149,7 +157,10 @@ pub fn run(cli: Cli) -> anyhow::Result<()> {
                     good_quality,
                 });
             }
-            replay::run(&model, &data, out.as_deref(), &form)
+            if let Some(config) = &like {
+                form = replay::form_of(config)?;
+            }
+            replay::run(&model, &data, out.as_deref(), &form, like.is_some())
         }
         Command::Inspect { model, json } => inspect::run(&model, json),
     }

@@ -3,7 +3,7 @@
 use std::path::Path;
 
 use anyhow::Context;
-use regimix_builder::config::TimestampColumns;
+use regimix_builder::config::{Config, TimestampColumns};
 use regimix_builder::output::write_atomic;
 use regimix_builder::prepare::audit::tag_list;
 use regimix_builder::replay::{read_inputs, replay, to_csv, CsvForm, TextCells};
@@ -47,6 +47,19 @@ pub fn csv_form(
         naive_offset_minutes,
         date_order,
         long_format: None,
+    })
+}
+
+/// The CSV's form as a project config's `data` section gives it (`replay --like`).
+pub fn form_of(config: &Path) -> anyhow::Result<CsvForm> {
+    let c = Config::load(config)?;
+    Ok(CsvForm {
+        timestamp: Some(c.timestamp),
+        delimiter: c.delimiter,
+        decimal_comma: c.decimal_comma,
+        naive_offset_minutes: c.naive_offset_minutes,
+        date_order: c.date_order,
+        long_format: c.long_format,
     })
 }
 
@@ -138,18 +151,26 @@ fn text_warning(t: &TextCells, decimal_comma: bool, rows: usize) -> String {
     line
 }
 
-/// Replays `data` through the model and writes the estimates (stdout without `--out`).
+/// Replays `data` through the model and writes the estimates (stdout without `--out`). With
+/// `from_config` the form came from a config (`--like`), whose keys the hints then name.
 pub fn run(
     model_path: &Path,
     data: &Path,
     out: Option<&Path>,
     form: &CsvForm,
+    from_config: bool,
 ) -> anyhow::Result<()> {
     let bytes = std::fs::read(model_path)
         .with_context(|| format!("cannot read model {}", model_path.display()))?;
     let model = ModelView::parse(&bytes).with_context(|| format!("{}", model_path.display()))?;
-    let inputs = read_inputs(data, &model, form)
-        .map_err(|e| anyhow::anyhow!(as_options(&format!("{:#}", anyhow::Error::from(e)))))?;
+    let inputs = read_inputs(data, &model, form).map_err(|e| {
+        let message = format!("{:#}", anyhow::Error::from(e));
+        anyhow::anyhow!(if from_config {
+            message
+        } else {
+            as_options(&message)
+        })
+    })?;
     let replayed = replay(&bytes, &inputs.times, &inputs.rows)
         .with_context(|| format!("{}", model_path.display()))?;
     for line in text_warnings(&inputs.text, form.decimal_comma, inputs.times.len()) {
