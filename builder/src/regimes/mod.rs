@@ -233,13 +233,18 @@ impl Partition {
     /// Two regimes' centers closer than [`SAME_POINT`] (scaled units): the partition has fallen
     /// onto fewer operating points than it has regimes.
     pub fn collapsed(&self) -> bool {
-        self.centers.iter().enumerate().any(|(i, a)| {
-            self.centers[i + 1..].iter().any(|b| {
-                let d2: f64 = a.iter().zip(b).map(|(x, y)| (x - y) * (x - y)).sum();
-                d2 < SAME_POINT * SAME_POINT
-            })
-        })
+        centers_collapsed(&self.centers)
     }
+}
+
+/// Two of `centers` closer than [`SAME_POINT`].
+fn centers_collapsed(centers: &[Vec<f64>]) -> bool {
+    centers.iter().enumerate().any(|(i, a)| {
+        centers[i + 1..].iter().any(|b| {
+            let d2: f64 = a.iter().zip(b).map(|(x, y)| (x - y) * (x - y)).sum();
+            d2 < SAME_POINT * SAME_POINT
+        })
+    })
 }
 
 /// Centers closer than this (in standard deviations of the scaled data, Euclidean) are one
@@ -396,6 +401,11 @@ pub fn gustafson_kessel(
             converged = true;
             break;
         }
+        // Regimes that have fallen onto one point do not come apart again (the grand mean
+        // attracts them): stop, and let `cluster` try a larger shrinkage.
+        if centers_collapsed(&state.centers) {
+            break;
+        }
     }
     let (covariances, norms) = gk_norms(&state, params, global_scale)?;
     Ok(Partition {
@@ -465,13 +475,14 @@ fn check_data(data: &Columns) -> Result<Vec<f64>, RegimeError> {
 /// partition is returned ([`Partition::collapsed`] tells).
 pub fn cluster(data: &Columns, params: &RegimeParams) -> Result<Partition, RegimeError> {
     params.check(data.len, data.dim)?;
+    let starts = fcm_starts(data, params);
     let configured = params.regularization.shrinkage;
     let steps = SHRINKAGE_STEPS.into_iter().filter(|&g| g > configured);
     let mut last = None;
     for shrinkage in std::iter::once(configured).chain(steps) {
         let mut p = params.clone();
         p.regularization.shrinkage = shrinkage;
-        let part = cluster_with(data, &p)?;
+        let part = cluster_from(data, &starts, &p)?;
         if !part.collapsed() {
             return Ok(part);
         }
@@ -480,23 +491,36 @@ pub fn cluster(data: &Columns, params: &RegimeParams) -> Result<Partition, Regim
     last.ok_or(RegimeError::Restarts)
 }
 
-/// [`cluster`] at the configured shrinkage: the best restart, preferring regimes that stay
-/// apart.
-fn cluster_with(data: &Columns, params: &RegimeParams) -> Result<Partition, RegimeError> {
+/// The converged fuzzy c-means partition of each restart (seed `seed + r`, k-means++ centers):
+/// GK's starts, the same whatever the shrinkage.
+fn fcm_starts(data: &Columns, params: &RegimeParams) -> Vec<Partition> {
+    (0..params.restarts)
+        .map(|restart| {
+            let seed = params.seed.wrapping_add(restart as u64);
+            let centers = init::kmeans_plus_plus(data, params.count, seed);
+            fuzzy_c_means(
+                data,
+                params.count,
+                params.fuzziness,
+                Start::Centers(centers),
+                params.tolerance,
+                params.max_iterations,
+            )
+        })
+        .collect()
+}
+
+/// GK from each start at `params`' shrinkage: the lowest objective, preferring regimes that
+/// stay apart.
+fn cluster_from(
+    data: &Columns,
+    starts: &[Partition],
+    params: &RegimeParams,
+) -> Result<Partition, RegimeError> {
     let scale = data_scale(data, params)?;
     let mut best: Option<Partition> = None;
-    for restart in 0..params.restarts {
-        let seed = params.seed.wrapping_add(restart as u64);
-        let centers = init::kmeans_plus_plus(data, params.count, seed);
-        let fcm = fuzzy_c_means(
-            data,
-            params.count,
-            params.fuzziness,
-            Start::Centers(centers),
-            params.tolerance,
-            params.max_iterations,
-        );
-        let gk = gustafson_kessel(data, fcm, params, scale)?;
+    for fcm in starts {
+        let gk = gustafson_kessel(data, fcm.clone(), params, scale)?;
         let better = best
             .as_ref()
             .is_none_or(|b| (gk.collapsed(), gk.objective()) < (b.collapsed(), b.objective()));
