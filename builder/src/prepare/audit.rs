@@ -706,8 +706,8 @@ impl fmt::Display for Audit {
                     .collect();
                 write!(
                     f,
-                    "; {} label rows under the header skipped: {}",
-                    file.label_rows.len(),
+                    "; {} under the header skipped: {}",
+                    counted(file.label_rows.len() as u64, "label row", "label rows"),
                     labels.join(", ")
                 )?;
             }
