@@ -16,7 +16,9 @@ use crate::duration::Span;
 use crate::error::DataError;
 use crate::identify::global::{fit_baseline, fit_global};
 use crate::identify::refine::{refine, simulation_mse};
-use crate::identify::stepwise::{predict, select, SelectionError, Step, StructureParams};
+use crate::identify::stepwise::{
+    predict, select, Selection, SelectionError, Step, StructureParams,
+};
 use crate::identify::wls::{Fit, FitError};
 use crate::identify::{design, Term};
 use crate::prepare::{prepare, CellStatus, Prepared};
@@ -216,127 +218,49 @@ pub fn build(config: &Config, progress: &dyn Fn(&str)) -> Result<Built, BuildErr
         }
     }
 
-    // Regimes on the scheduling variables (and the target, in product space), training rows only.
     progress("clustering operating regimes");
-    let vars = &m.variables;
     let target_model = &ds.target_model;
-    let rows: Vec<usize> = (0..train_end)
-        .filter(|&k| {
-            vars.iter().all(|&j| inputs[j][k].is_finite())
-                && (!m.include_target || target_model[k].is_finite())
-        })
-        .collect();
-    let dim = vars.len() + usize::from(m.include_target);
-    let mut raw = Vec::with_capacity(rows.len() * dim);
-    for &k in &rows {
-        raw.extend(vars.iter().map(|&j| inputs[j][k]));
-        if m.include_target {
-            raw.push(target_model[k]);
-        }
-    }
-    let scaling = Scaling::fit(&raw, dim);
-    for row in raw.chunks_exact_mut(dim) {
-        scaling.apply(row);
-    }
-    let data = Columns::from_rows(&raw, dim);
-    let mut params = RegimeParams::new(2);
-    params.fuzziness = m.fuzziness;
-    params.regularization = Regularization {
-        shrinkage: m.shrinkage,
-        max_condition: m.max_condition,
-    };
-    params.restarts = m.restarts;
-    params.seed = m.seed;
-    let (partition, validity) = match m.count {
-        RegimeCount::Fixed(c) => {
-            params.count = c;
-            let part = cluster(&data, &params)?;
-            let v = measures(&data, &part)?;
-            (part, vec![v])
-        }
-        RegimeCount::Auto => {
-            // A regime needs target samples of its own: cap the count at about 40 per regime
-            // (sparse lab targets support fewer regimes than the inputs alone would suggest).
-            let target_rows = (0..train_end)
-                .filter(|&k| target_model[k].is_finite())
-                .count();
-            let cap = (target_rows / 40).max(m.count_range.0);
-            let high = m.count_range.1.min(cap);
-            if high < m.count_range.1 {
-                progress(&format!(
-                    "{target_rows} training target samples: trying at most {high} regimes"
-                ));
-            }
-            let table = sweep(&data, m.count_range.0..=high, &params)?;
-            let validity: Vec<Validity> = table.iter().map(|(_, v)| v.clone()).collect();
-            let chosen = choose_count(&validity).unwrap_or(m.count_range.0);
-            let part = table
-                .into_iter()
-                .find(|(p, _)| p.count() == chosen)
-                .map(|(p, _)| p)
-                .ok_or(RegimeError::TooFewRegimes(chosen))?;
-            (part, validity)
-        }
-    };
-    let c = partition.count();
-    let antecedent = Antecedent::project(
-        &partition,
-        &data,
-        &(0..vars.len()).collect::<Vec<_>>(),
-        None,
-        m.domain_quantile,
+    let mut scheduled = schedule(
+        config,
+        &inputs,
+        target_model,
+        train_end,
+        &m.variables,
+        progress,
     )?;
-
-    // Memberships of every row.
-    let mut weights = vec![vec![0.0; n]; c];
-    let mut selection_target = target_model.clone();
-    let mut x = vec![0.0; vars.len()];
-    for k in 0..n {
-        if vars.iter().all(|&j| inputs[j][k].is_finite()) {
-            for (a, &j) in vars.iter().enumerate() {
-                x[a] = (inputs[j][k] - scaling.means[a]) / scaling.stds[a];
+    let mut notes = Vec::new();
+    if !m.variables_given {
+        // By default the regimes are first found on every input; the inputs the selected
+        // structure uses are then tried as the scheduling variables, kept if the selection's
+        // validation block says they predict better (common practice: schedule on the
+        // variables that carry the nonlinearity, which are among the consequent's).
+        let used = used_inputs(&scheduled.selection.terms);
+        if !used.is_empty() && used != scheduled.vars && !m.include_target {
+            progress("clustering again on the inputs the structure uses");
+            if let Ok(second) = schedule(config, &inputs, target_model, train_end, &used, progress)
+            {
+                if second.selection.validation_rmse < scheduled.selection.validation_rmse {
+                    notes.push(scheduling_note(&scheduled, &second, config));
+                    scheduled = second;
+                }
             }
-            let e = antecedent.evaluate(&x);
-            for i in 0..c {
-                weights[i][k] = e.memberships[i];
-            }
-        } else {
-            selection_target[k] = f64::NAN;
-        }
-        if k >= train_end {
-            selection_target[k] = f64::NAN; // the test block is never seen while fitting
         }
     }
-
-    progress("selecting lags and dead times");
-    let mut sp = StructureParams::new(m.max_lag.clone(), m.max_output_lag);
-    sp.min_improvement = m.min_improvement;
-    sp.weight_power = m.fuzziness;
-    let selection = select(&sp, &weights, &inputs, &selection_target)?;
+    let Scheduled {
+        vars,
+        scaling,
+        partition,
+        validity,
+        antecedent,
+        weights,
+        selection_target,
+        selection,
+        train_rows,
+        clustering_rows,
+    } = scheduled;
+    let vars = &vars;
+    let c = partition.count();
     let terms = selection.terms.clone();
-    let train_rows = design::usable_rows(&terms, &inputs, &selection_target, 0..train_end);
-    if train_rows.len() < 10 * c * (terms.len() + 1) {
-        return Err(BuildError::TooLittleData(format!(
-            "only {} usable training rows for {c} regimes × {} parameters; use fewer regimes or inputs, or more data",
-            train_rows.len(),
-            terms.len() + 1
-        )));
-    }
-    // Every regime needs enough data of its own for its parameters.
-    let parameters = terms.len() + 1;
-    let needed = 5 * parameters; // rule of thumb: at least five samples per parameter
-    for (i, w) in weights.iter().enumerate() {
-        let samples: f64 = train_rows.iter().map(|&k| w[k].powf(m.fuzziness)).sum();
-        if samples < needed as f64 {
-            return Err(BuildError::RegimeTooThin {
-                regime: i + 1,
-                count: c,
-                samples,
-                parameters,
-                needed,
-            });
-        }
-    }
     let fits = match m.estimation {
         Estimation::Local => selection.fits.clone(),
         Estimation::Global => fit_global(
@@ -547,7 +471,7 @@ pub fn build(config: &Config, progress: &dyn Fn(&str)) -> Result<Built, BuildErr
                 .collect::<Vec<_>>(),
         )
     };
-    let mut notes = structure_notes(
+    notes.extend(structure_notes(
         &terms,
         &m.max_lag,
         &config
@@ -556,7 +480,7 @@ pub fn build(config: &Config, progress: &dyn Fn(&str)) -> Result<Built, BuildErr
             .map(|i| i.tag.as_str())
             .collect::<Vec<_>>(),
         config.sample_time,
-    );
+    ));
     notes.extend(regime_note(
         partition.collapsed(),
         partition.shrinkage,
@@ -580,10 +504,203 @@ pub fn build(config: &Config, progress: &dyn Fn(&str)) -> Result<Built, BuildErr
         out_of_domain: ood,
         baseline_estimates: base_pred,
         training_rows: train_rows.len(),
-        clustering_rows: rows.len(),
+        clustering_rows,
         refined,
         notes,
     })
+}
+
+/// Regimes on a set of scheduling variables and the structure selected with their memberships.
+struct Scheduled {
+    /// The scheduling variables (indices into the inputs).
+    vars: Vec<usize>,
+    scaling: Scaling,
+    partition: Partition,
+    validity: Vec<Validity>,
+    antecedent: Antecedent,
+    /// Memberships of every grid row, regime-major.
+    weights: Vec<Vec<f64>>,
+    /// The target where it may be used for fitting (NaN in the test block and where a
+    /// scheduling variable is missing).
+    selection_target: Vec<f64>,
+    selection: Selection,
+    train_rows: Vec<usize>,
+    clustering_rows: usize,
+}
+
+/// Clusters the training rows on `vars` (and the target, in product space), evaluates every
+/// row's memberships, selects lags and dead times, and checks every regime has data enough for
+/// its parameters.
+fn schedule(
+    config: &Config,
+    inputs: &[Vec<f64>],
+    target_model: &[f64],
+    train_end: usize,
+    vars: &[usize],
+    progress: &dyn Fn(&str),
+) -> Result<Scheduled, BuildError> {
+    let m = &config.modelling;
+    let n = target_model.len();
+    // Regimes on the scheduling variables (and the target, in product space), training rows only.
+    let rows: Vec<usize> = (0..train_end)
+        .filter(|&k| {
+            vars.iter().all(|&j| inputs[j][k].is_finite())
+                && (!m.include_target || target_model[k].is_finite())
+        })
+        .collect();
+    let dim = vars.len() + usize::from(m.include_target);
+    let mut raw = Vec::with_capacity(rows.len() * dim);
+    for &k in &rows {
+        raw.extend(vars.iter().map(|&j| inputs[j][k]));
+        if m.include_target {
+            raw.push(target_model[k]);
+        }
+    }
+    let scaling = Scaling::fit(&raw, dim);
+    for row in raw.chunks_exact_mut(dim) {
+        scaling.apply(row);
+    }
+    let data = Columns::from_rows(&raw, dim);
+    let mut params = RegimeParams::new(2);
+    params.fuzziness = m.fuzziness;
+    params.regularization = Regularization {
+        shrinkage: m.shrinkage,
+        max_condition: m.max_condition,
+    };
+    params.restarts = m.restarts;
+    params.seed = m.seed;
+    let (partition, validity) = match m.count {
+        RegimeCount::Fixed(c) => {
+            params.count = c;
+            let part = cluster(&data, &params)?;
+            let v = measures(&data, &part)?;
+            (part, vec![v])
+        }
+        RegimeCount::Auto => {
+            // A regime needs target samples of its own: cap the count at about 40 per regime
+            // (sparse lab targets support fewer regimes than the inputs alone would suggest).
+            let target_rows = (0..train_end)
+                .filter(|&k| target_model[k].is_finite())
+                .count();
+            let cap = (target_rows / 40).max(m.count_range.0);
+            let high = m.count_range.1.min(cap);
+            if high < m.count_range.1 {
+                progress(&format!(
+                    "{target_rows} training target samples: trying at most {high} regimes"
+                ));
+            }
+            let table = sweep(&data, m.count_range.0..=high, &params)?;
+            let validity: Vec<Validity> = table.iter().map(|(_, v)| v.clone()).collect();
+            let chosen = choose_count(&validity).unwrap_or(m.count_range.0);
+            let part = table
+                .into_iter()
+                .find(|(p, _)| p.count() == chosen)
+                .map(|(p, _)| p)
+                .ok_or(RegimeError::TooFewRegimes(chosen))?;
+            (part, validity)
+        }
+    };
+    let c = partition.count();
+    let antecedent = Antecedent::project(
+        &partition,
+        &data,
+        &(0..vars.len()).collect::<Vec<_>>(),
+        None,
+        m.domain_quantile,
+    )?;
+
+    // Memberships of every row.
+    let mut weights = vec![vec![0.0; n]; c];
+    let mut selection_target = target_model.to_vec();
+    let mut x = vec![0.0; vars.len()];
+    for k in 0..n {
+        if vars.iter().all(|&j| inputs[j][k].is_finite()) {
+            for (a, &j) in vars.iter().enumerate() {
+                x[a] = (inputs[j][k] - scaling.means[a]) / scaling.stds[a];
+            }
+            let e = antecedent.evaluate(&x);
+            for i in 0..c {
+                weights[i][k] = e.memberships[i];
+            }
+        } else {
+            selection_target[k] = f64::NAN;
+        }
+        if k >= train_end {
+            selection_target[k] = f64::NAN; // the test block is never seen while fitting
+        }
+    }
+
+    progress("selecting lags and dead times");
+    let mut sp = StructureParams::new(m.max_lag.clone(), m.max_output_lag);
+    sp.min_improvement = m.min_improvement;
+    sp.weight_power = m.fuzziness;
+    let selection = select(&sp, &weights, inputs, &selection_target)?;
+    let terms = selection.terms.clone();
+    let train_rows = design::usable_rows(&terms, inputs, &selection_target, 0..train_end);
+    if train_rows.len() < 10 * c * (terms.len() + 1) {
+        return Err(BuildError::TooLittleData(format!(
+            "only {} usable training rows for {c} regimes × {} parameters; use fewer regimes or inputs, or more data",
+            train_rows.len(),
+            terms.len() + 1
+        )));
+    }
+    // Every regime needs enough data of its own for its parameters.
+    let parameters = terms.len() + 1;
+    let needed = 5 * parameters; // rule of thumb: at least five samples per parameter
+    for (i, w) in weights.iter().enumerate() {
+        let samples: f64 = train_rows.iter().map(|&k| w[k].powf(m.fuzziness)).sum();
+        if samples < needed as f64 {
+            return Err(BuildError::RegimeTooThin {
+                regime: i + 1,
+                count: c,
+                samples,
+                parameters,
+                needed,
+            });
+        }
+    }
+    Ok(Scheduled {
+        vars: vars.to_vec(),
+        scaling,
+        partition,
+        validity,
+        antecedent,
+        weights,
+        selection_target,
+        selection,
+        train_rows,
+        clustering_rows: rows.len(),
+    })
+}
+
+/// The inputs (indices, ascending) that `terms` use.
+fn used_inputs(terms: &[Term]) -> Vec<usize> {
+    let mut used: Vec<usize> = terms
+        .iter()
+        .filter_map(|t| match *t {
+            Term::Input { input, .. } => Some(input),
+            Term::Output { .. } => None,
+        })
+        .collect();
+    used.sort_unstable();
+    used.dedup();
+    used
+}
+
+/// The note when the regimes were found again on the inputs the structure uses.
+fn scheduling_note(first: &Scheduled, second: &Scheduled, config: &Config) -> String {
+    let tags: Vec<&str> = second
+        .vars
+        .iter()
+        .map(|&j| config.inputs[j].tag.as_str())
+        .collect();
+    format!(
+        "the regimes are scheduled on the inputs the model uses ({}), not on all {}: validation RMSE {:.4} against {:.4} (model domain); `regimes.variables` fixes the choice",
+        tags.join(", "),
+        first.vars.len(),
+        second.selection.validation_rmse,
+        first.selection.validation_rmse
+    )
 }
 
 /// A note when the clustering had to raise the covariance shrinkage from `configured` to `used`

@@ -606,6 +606,9 @@ pub struct Modelling {
     pub count_range: (usize, usize),
     /// Indices (into `inputs`) of the scheduling variables.
     pub variables: Vec<usize>,
+    /// The config lists the scheduling variables (else they are all inputs at first, and
+    /// `build` may narrow them to the inputs the structure uses).
+    pub variables_given: bool,
     /// Product-space clustering.
     pub include_target: bool,
     /// Fuzziness.
@@ -1147,6 +1150,7 @@ impl RawConfig {
             count,
             count_range: (lo, hi),
             variables,
+            variables_given: r.variables.is_some(),
             include_target: r.include_target.unwrap_or(false),
             fuzziness,
             shrinkage,

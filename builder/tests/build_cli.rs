@@ -620,3 +620,65 @@ fn a_closed_stdout_is_not_an_error() {
     assert!(stderr.is_empty(), "{stderr}");
     assert!(dir.path().join("o/model.rgmx").exists());
 }
+
+/// A plant whose target follows X1 nonlinearly, with three inputs that carry nothing (noise and a
+/// slow drift): by default the regimes are found again on the inputs the structure uses (X1), the
+/// build says so, and the test error is lower than with the regimes on all four inputs.
+#[test]
+fn regimes_move_to_the_inputs_the_model_uses() {
+    let dir = tempfile::tempdir().expect("tempdir");
+    let mut rng = Lcg(21);
+    let mut csv = String::from("time,X1,X2,X3,X4,Y\n");
+    let (mut x1, mut y) = (50.0, 0.0);
+    for k in 0..4000 {
+        if k % 41 == 0 {
+            x1 = 50.0 + 15.0 * rng.next();
+        }
+        y = 0.8 * y + 0.2 * (0.002 * x1 * x1 * x1 / 50.0) + 0.02 * rng.next();
+        let drift = 5.0 * (k as f64 / 700.0).sin();
+        csv.push_str(&format!(
+            "{},{x1:.3},{:.3},{:.3},{:.3},{y:.4}\n",
+            stamp(k),
+            20.0 + rng.next(),
+            60.0 + drift + 0.3 * rng.next(),
+            3.0 + 0.5 * rng.next()
+        ));
+    }
+    write(dir.path(), "plant.csv", &csv);
+    let config = "
+data: { files: [plant.csv], timestamp: time }
+sample-time: 1min
+target: { tag: Y, source: analyzer }
+inputs: [{ tag: X1 }, { tag: X2 }, { tag: X3 }, { tag: X4 }]
+structure: { max-lag: 5min }
+";
+    write(dir.path(), "auto.yaml", config);
+    write(
+        dir.path(),
+        "all.yaml",
+        &format!("{config}regimes: {{ variables: [X1, X2, X3, X4] }}\n"),
+    );
+    let ratio = |name: &str| -> (f64, String) {
+        let out = format!("{name}.out");
+        let r = regimix(dir.path(), &["build", name, "--out", &out, "--quiet"]);
+        assert!(r.status.success(), "{}", String::from_utf8_lossy(&r.stderr));
+        let text =
+            std::fs::read_to_string(dir.path().join(&out).join("summary.json")).expect("summary");
+        let json: serde_json::Value = serde_json::from_str(&text).expect("json");
+        (json["rmse_ratio"].as_f64().expect("ratio"), text)
+    };
+    let (auto, summary) = ratio("auto.yaml");
+    let (all, _) = ratio("all.yaml");
+    assert!(
+        summary
+            .contains("the regimes are scheduled on the inputs the model uses (X1), not on all 4"),
+        "{summary}"
+    );
+    let inspect = regimix(dir.path(), &["inspect", "auto.yaml.out/model.rgmx"]);
+    let text = String::from_utf8_lossy(&inspect.stdout);
+    assert!(text.contains("regimes scheduled on: X1 ("), "{text}");
+    assert!(
+        auto < all,
+        "test RMSE / linear: {auto} on X1, {all} on all four"
+    );
+}
