@@ -59,6 +59,16 @@ pub enum BuildError {
     /// Too little data for the model asked for.
     #[error("{0}")]
     TooLittleData(String),
+    /// More inputs than the regimes can take, and the linear pre-selection used too many too.
+    #[error("`regimes.variables` is not set and the {inputs} inputs are more than the regimes take ({max}); one linear model uses {used} of them, so list under `regimes.variables` the tags that say where the plant operates (key temperatures, throughput)")]
+    TooManyVariables {
+        /// Inputs in the config.
+        inputs: usize,
+        /// Inputs the linear model uses.
+        used: usize,
+        /// The most scheduling variables.
+        max: usize,
+    },
     /// Clustering.
     #[error("regime clustering: {0}")]
     Regimes(RegimeError),
@@ -218,24 +228,42 @@ pub fn build(config: &Config, progress: &dyn Fn(&str)) -> Result<Built, BuildErr
         }
     }
 
-    progress("clustering operating regimes");
     let target_model = &ds.target_model;
-    let mut scheduled = schedule(
-        config,
-        &inputs,
-        target_model,
-        train_end,
-        &m.variables,
-        progress,
-    )?;
     let mut notes = Vec::new();
+    let max = regimix_format::limits::MAX_ANTECEDENT;
+    let first = if !m.variables_given && m.variables.len() > max {
+        // More inputs than the regimes take: one linear model's structure says which inputs
+        // matter, and the regimes start on those.
+        progress("choosing scheduling variables with one linear model");
+        let used = linear_inputs(config, &inputs, target_model, train_end)?;
+        if used.is_empty() || used.len() > max {
+            return Err(BuildError::TooManyVariables {
+                inputs: p,
+                used: used.len(),
+                max,
+            });
+        }
+        notes.push(format!(
+            "{p} inputs are more than the regimes take ({max}): they start on the {} one linear model uses ({}); `regimes.variables` fixes the choice",
+            used.len(),
+            used.iter()
+                .map(|&j| config.inputs[j].tag.as_str())
+                .collect::<Vec<_>>()
+                .join(", ")
+        ));
+        used
+    } else {
+        m.variables.clone()
+    };
+    progress("clustering operating regimes");
+    let mut scheduled = schedule(config, &inputs, target_model, train_end, &first, progress)?;
     if !m.variables_given {
         // By default the regimes are first found on every input; the inputs the selected
         // structure uses are then tried as the scheduling variables, kept if the selection's
         // validation block says they predict better (common practice: schedule on the
         // variables that carry the nonlinearity, which are among the consequent's).
         let used = used_inputs(&scheduled.selection.terms);
-        if !used.is_empty() && used != scheduled.vars && !m.include_target {
+        if !used.is_empty() && used != scheduled.vars && !m.include_target && used.len() <= max {
             progress("clustering again on the inputs the structure uses");
             if let Ok(second) = schedule(config, &inputs, target_model, train_end, &used, progress)
             {
@@ -673,6 +701,31 @@ fn schedule(
     })
 }
 
+/// The inputs one linear model (a single regime) selects on the training rows.
+fn linear_inputs(
+    config: &Config,
+    inputs: &[Vec<f64>],
+    target_model: &[f64],
+    train_end: usize,
+) -> Result<Vec<usize>, BuildError> {
+    let m = &config.modelling;
+    let n = target_model.len();
+    let target: Vec<f64> = (0..n)
+        .map(|k| {
+            if k < train_end {
+                target_model[k]
+            } else {
+                f64::NAN
+            }
+        })
+        .collect();
+    let mut sp = StructureParams::new(m.max_lag.clone(), m.max_output_lag);
+    sp.min_improvement = m.min_improvement;
+    sp.weight_power = m.fuzziness;
+    let selection = select(&sp, &[vec![1.0; n]], inputs, &target)?;
+    Ok(used_inputs(&selection.terms))
+}
+
 /// The inputs (indices, ascending) that `terms` use.
 fn used_inputs(terms: &[Term]) -> Vec<usize> {
     let mut used: Vec<usize> = terms
@@ -694,10 +747,14 @@ fn scheduling_note(first: &Scheduled, second: &Scheduled, config: &Config) -> St
         .iter()
         .map(|&j| config.inputs[j].tag.as_str())
         .collect();
+    let before = if first.vars.len() == config.inputs.len() {
+        format!("all {}", first.vars.len())
+    } else {
+        format!("the {} it started on", first.vars.len())
+    };
     format!(
-        "the regimes are scheduled on the inputs the model uses ({}), not on all {}: validation RMSE {:.4} against {:.4} (model domain); `regimes.variables` fixes the choice",
+        "the regimes are scheduled on the inputs the model uses ({}), not on {before}: validation RMSE {:.4} against {:.4} (model domain); `regimes.variables` fixes the choice",
         tags.join(", "),
-        first.vars.len(),
         second.selection.validation_rmse,
         first.selection.validation_rmse
     )

@@ -1007,20 +1007,12 @@ impl RawConfig {
                 idx
             }
         };
-        if variables.is_empty() || variables.len() > regimix_format::limits::MAX_ANTECEDENT {
-            let max = regimix_format::limits::MAX_ANTECEDENT;
+        // Unset with more inputs than the regimes take: `build` narrows them down.
+        let max = regimix_format::limits::MAX_ANTECEDENT;
+        if r.variables.is_some() && (variables.is_empty() || variables.len() > max) {
             return Err(invalid(
                 "regimes.variables",
-                if r.variables.is_none() {
-                    format!(
-                        "not set, so all {} inputs would be used, but the regimes take at most \
-                         {max}: list the tags that say where the plant operates (key \
-                         temperatures, throughput)",
-                        inputs.len()
-                    )
-                } else {
-                    format!("must name 1 to {max} inputs")
-                },
+                format!("must name 1 to {max} inputs"),
             ));
         }
         let fuzziness = r.fuzziness.unwrap_or(2.0);
@@ -1354,21 +1346,21 @@ inputs:
         assert!(err.contains("`Time` is the timestamp column"), "{err}");
     }
 
-    /// More inputs than the regimes can take: the message says the default was used and what
-    /// to list.
+    /// More inputs than the regimes can take: unset, all are kept for `build` to narrow down;
+    /// listed, at most 12.
     #[test]
-    fn too_many_inputs_for_the_default_regime_variables() {
+    fn more_inputs_than_the_regimes_take() {
         let mut text = MINIMAL.to_string();
         for j in 2..=13 {
             text.push_str(&format!("  - tag: TI-{j}\n"));
         }
-        let err = load(&text).expect_err("13 variables").to_string();
-        assert!(
-            err.contains(
-                "not set, so all 13 inputs would be used, but the regimes take at most 12"
-            ),
-            "{err}"
-        );
+        let c = load(&text).expect("13 inputs");
+        assert_eq!(c.modelling.variables.len(), 13);
+        assert!(!c.modelling.variables_given);
+        let names: Vec<String> = (1..=13).map(|j| format!("TI-{j}")).collect();
+        let listed = format!("{text}regimes:\n  variables: [{}]\n", names.join(", "));
+        let err = load(&listed).expect_err("13 listed").to_string();
+        assert!(err.contains("must name 1 to 12 inputs"), "{err}");
         let text = format!("{text}regimes:\n  variables: [TI-1, TI-2]\n");
         assert_eq!(
             load(&text).expect("two variables").modelling.variables,

@@ -682,3 +682,56 @@ structure: { max-lag: 5min }
         "test RMSE / linear: {auto} on X1, {all} on all four"
     );
 }
+
+/// Fourteen inputs, more than the regimes take, and no `regimes.variables`: one linear model
+/// picks the inputs that matter (X1, X2), the regimes are found on those, and the build says so.
+#[test]
+fn more_inputs_than_the_regimes_take_are_narrowed_down() {
+    let dir = tempfile::tempdir().expect("tempdir");
+    let mut rng = Lcg(33);
+    let names: Vec<String> = (1..=14).map(|j| format!("X{j}")).collect();
+    let mut csv = format!("time,{},Y\n", names.join(","));
+    let (mut x1, mut x2, mut y) = (50.0, 5.0, 0.0);
+    for k in 0..4000 {
+        if k % 41 == 0 {
+            x1 = 50.0 + 15.0 * rng.next();
+        }
+        if k % 67 == 0 {
+            x2 = 5.0 + 2.0 * rng.next();
+        }
+        y = 0.8 * y + 0.2 * (0.002 * x1 * x1 * x1 / 50.0 - 3.0 * x2) + 0.02 * rng.next();
+        let noise: Vec<String> = (3..=14)
+            .map(|j| format!("{:.3}", 10.0 * j as f64 + rng.next()))
+            .collect();
+        csv.push_str(&format!(
+            "{},{x1:.3},{x2:.3},{},{y:.4}\n",
+            stamp(k),
+            noise.join(",")
+        ));
+    }
+    write(dir.path(), "plant.csv", &csv);
+    let inputs: Vec<String> = names.iter().map(|n| format!("{{ tag: {n} }}")).collect();
+    let config = format!(
+        "data: {{ files: [plant.csv], timestamp: time }}\nsample-time: 1min\n\
+         target: {{ tag: Y, source: analyzer }}\ninputs: [{}]\nstructure: {{ max-lag: 5min }}\n",
+        inputs.join(", ")
+    );
+    write(dir.path(), "c.yaml", &config);
+    let r = regimix(dir.path(), &["build", "c.yaml", "--out", "o"]);
+    assert!(r.status.success(), "{}", String::from_utf8_lossy(&r.stderr));
+    let stdout = String::from_utf8_lossy(&r.stdout);
+    assert!(
+        stdout.contains("14 inputs are more than the regimes take (12): they start on the 2 one linear model uses (X1, X2)"),
+        "{stdout}"
+    );
+    let inspect = regimix(dir.path(), &["inspect", "o/model.rgmx"]);
+    let text = String::from_utf8_lossy(&inspect.stdout);
+    let scheduled = text
+        .lines()
+        .find(|l| l.contains("regimes scheduled on:"))
+        .expect("scheduled line");
+    assert!(
+        scheduled.contains("X1") && !scheduled.contains("X3"),
+        "{scheduled}"
+    );
+}
