@@ -351,6 +351,24 @@ impl TagAudit {
     }
 }
 
+/// Stretches (start, end) sorted by start, joined where the next starts at most `gap` after one
+/// ends: (start, end, pieces joined).
+fn joined_stretches(spans: impl Iterator<Item = (i64, i64)>, gap: i64) -> Vec<(i64, i64, usize)> {
+    let mut spans: Vec<(i64, i64)> = spans.collect();
+    spans.sort_unstable();
+    let mut out: Vec<(i64, i64, usize)> = Vec::new();
+    for (from, to) in spans {
+        match out.last_mut() {
+            Some(last) if from - last.1 <= gap => {
+                last.1 = last.1.max(to);
+                last.2 += 1;
+            }
+            _ => out.push((from, to, 1)),
+        }
+    }
+    out
+}
+
 /// `A`, `A and B`, `A, B and C`, or `A, B, C and 4 more tags`.
 pub fn tag_list(names: &[&str]) -> String {
     match names {
@@ -538,14 +556,24 @@ fn warnings(config: &Config, audit: &Audit, median: Option<i64>) -> Vec<String> 
                 tag.valid_percent
             ));
         }
-        for f in tag
-            .frozen
-            .iter()
-            .filter(|f| !together.contains(&(name, f.span)))
-        {
+        // Pieces of one stretch split by a cell without a usable value (a quality marker, a
+        // missed row) are reported as the one stretch they are.
+        for (from, to, pieces) in joined_stretches(
+            tag.frozen
+                .iter()
+                .filter(|f| !together.contains(&(name, f.span)))
+                .map(|f| f.span),
+            config.hold_limit.micros(),
+        ) {
+            let split = if pieces > 1 {
+                format!(" (in {pieces} pieces split by cells without a usable value)")
+            } else {
+                String::new()
+            };
             out.push(format!(
-                "{name}: frozen for {} from {} — check the transmitter and its historian compression; a setpoint or a state that legitimately holds still needs a longer `frozen-after` on this tag",
-                f.duration, f.start
+                "{name}: frozen for {} from {}{split} — check the transmitter and its historian compression; a setpoint or a state that legitimately holds still needs a longer `frozen-after` on this tag",
+                Span::from_micros(to - from),
+                Rfc3339(from)
             ));
         }
         let marker_total: u64 = tag.markers.values().sum();
@@ -921,6 +949,21 @@ mod tests {
         assert_eq!(names(&groups[0]), ["A", "B", "C", "D", "D"]);
         let config_order: Vec<(i64, i64)> = groups[0].iter().map(|(_, p)| p.span).collect();
         assert_eq!(config_order[3], (100 * HOUR, 112 * HOUR));
+    }
+
+    #[test]
+    fn pieces_of_one_frozen_stretch_are_joined() {
+        let spans = [(130, 140), (100, 112), (113, 125), (300, 310)]
+            .map(|(a, b): (i64, i64)| (a * HOUR, b * HOUR));
+        let joined = joined_stretches(spans.into_iter(), HOUR);
+        assert_eq!(
+            joined,
+            [
+                (100 * HOUR, 125 * HOUR, 2),
+                (130 * HOUR, 140 * HOUR, 1),
+                (300 * HOUR, 310 * HOUR, 1)
+            ]
+        );
     }
 
     #[test]
