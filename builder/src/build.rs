@@ -659,10 +659,7 @@ fn schedule(
     }
 
     progress("selecting lags and dead times");
-    let mut sp = StructureParams::new(m.max_lag.clone(), m.max_output_lag);
-    sp.min_improvement = m.min_improvement;
-    sp.weight_power = m.fuzziness;
-    let selection = select(&sp, &weights, inputs, &selection_target)?;
+    let selection = select(&structure_params(m), &weights, inputs, &selection_target)?;
     let terms = selection.terms.clone();
     let train_rows = design::usable_rows(&terms, inputs, &selection_target, 0..train_end);
     if train_rows.len() < 10 * c * (terms.len() + 1) {
@@ -701,6 +698,14 @@ fn schedule(
     })
 }
 
+/// The structure search's settings from the config.
+fn structure_params(m: &crate::config::Modelling) -> StructureParams {
+    let mut sp = StructureParams::new(m.max_lag.clone(), m.max_output_lag);
+    sp.min_improvement = m.min_improvement;
+    sp.weight_power = m.fuzziness;
+    sp
+}
+
 /// The inputs one linear model (a single regime) selects on the training rows.
 fn linear_inputs(
     config: &Config,
@@ -719,10 +724,7 @@ fn linear_inputs(
             }
         })
         .collect();
-    let mut sp = StructureParams::new(m.max_lag.clone(), m.max_output_lag);
-    sp.min_improvement = m.min_improvement;
-    sp.weight_power = m.fuzziness;
-    let selection = select(&sp, &[vec![1.0; n]], inputs, &target)?;
+    let selection = select(&structure_params(m), &[vec![1.0; n]], inputs, &target)?;
     Ok(used_inputs(&selection.terms))
 }
 

@@ -198,7 +198,7 @@ fn replay_reads_day_and_month_first_dates_with_date_order() {
 
 /// replay's hints name its options, not config keys: a `;` file read with `,` names
 /// `--delimiter`, and decimal-comma numbers read with `.` (every cell text, every estimate a
-/// fallback) give a warning per input that names `--decimal-mark ,`.
+/// fallback) give one warning that names `--decimal-mark ,`.
 #[test]
 fn replay_hints_name_its_options() {
     let dir = tempfile::tempdir().expect("tempdir");
