@@ -3,6 +3,7 @@
 #![allow(missing_docs)] // criterion_group! generates undocumented items
 
 use criterion::{criterion_group, criterion_main, Criterion};
+use regimix_builder::identify::design::Regressors;
 use regimix_builder::identify::stepwise::{select, StructureParams};
 
 /// Seeded data: 20 random-step inputs, a target driven by three of them with dead times,
@@ -56,7 +57,7 @@ fn stepwise(c: &mut Criterion) {
     let mut group = c.benchmark_group("stepwise");
     group.sample_size(10);
     group.bench_function("600 candidates, c=6, N=200000", |b| {
-        b.iter(|| select(&params, &weights, &inputs, &y).expect("select"))
+        b.iter(|| select(&params, &weights, Regressors::new(&inputs, &y), &y).expect("select"))
     });
     group.finish();
 }

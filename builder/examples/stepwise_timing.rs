@@ -9,7 +9,12 @@ fn main() {
     let (inputs, y, weights) = bench::problem(200_000);
     let params = regimix_builder::identify::stepwise::StructureParams::new(vec![29; 20], 0);
     let start = std::time::Instant::now();
-    let sel = regimix_builder::identify::stepwise::select(&params, &weights, &inputs, &y);
+    let sel = regimix_builder::identify::stepwise::select(
+        &params,
+        &weights,
+        regimix_builder::identify::design::Regressors::new(&inputs, &y),
+        &y,
+    );
     println!(
         "{:.2} s; {:?}",
         start.elapsed().as_secs_f64(),

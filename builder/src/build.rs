@@ -14,13 +14,14 @@ use regimix_runtime::Status;
 use crate::config::{Config, Estimation, RegimeCount};
 use crate::duration::Span;
 use crate::error::DataError;
+use crate::identify::design::{self, Regressors};
 use crate::identify::global::{fit_baseline, fit_global};
 use crate::identify::refine::{refine, simulation_mse};
 use crate::identify::stepwise::{
     predict, select, Selection, SelectionError, Step, StructureParams,
 };
 use crate::identify::wls::{Fit, FitError};
-use crate::identify::{design, Term};
+use crate::identify::Term;
 use crate::prepare::{prepare, CellStatus, Prepared};
 use crate::regimes::antecedent::Antecedent;
 use crate::regimes::covariance::Regularization;
@@ -212,13 +213,14 @@ pub fn build(config: &Config, progress: &dyn Fn(&str)) -> Result<Built, BuildErr
     let test_start = n - ((n as f64) * m.test_share) as usize;
     let p = config.inputs.len();
     let inputs: Vec<Vec<f64>> = (0..p).map(|j| ds.inputs.column(j).to_vec()).collect();
+    let structure = structure_params(m, ds.reading_cycle);
     let gap = m
         .max_lag
         .iter()
         .copied()
         .max()
         .unwrap_or(0)
-        .max(m.max_output_lag)
+        .max(structure.max_output_lag * structure.output_step)
         + 1;
     let train_end = test_start.saturating_sub(gap);
     for (j, spec) in config.inputs.iter().enumerate() {
@@ -228,14 +230,19 @@ pub fn build(config: &Config, progress: &dyn Fn(&str)) -> Result<Built, BuildErr
         }
     }
 
-    let target_model = &ds.target_model;
+    // Rows are fitted and scored at fresh readings only; a past output reads the target as
+    // measured (an analyzer's reading held until its next).
+    let fresh = ds.fresh_target_model();
+    let target_model = &fresh;
+    let regressors = Regressors::new(&inputs, &ds.target_model);
     let mut notes = Vec::new();
+    notes.extend(reading_note(ds.reading_cycle, target_model, config));
     let max = regimix_format::limits::MAX_ANTECEDENT;
     let first = if !m.variables_given && m.variables.len() > max {
         // More inputs than the regimes take: one linear model's structure says which inputs
         // matter, and the regimes start on those.
         progress("choosing scheduling variables with one linear model");
-        let used = linear_inputs(config, &inputs, target_model, train_end)?;
+        let used = linear_inputs(&structure, regressors, target_model, train_end)?;
         if used.is_empty() || used.len() > max {
             return Err(BuildError::TooManyVariables {
                 inputs: p,
@@ -256,7 +263,15 @@ pub fn build(config: &Config, progress: &dyn Fn(&str)) -> Result<Built, BuildErr
         m.variables.clone()
     };
     progress("clustering operating regimes");
-    let mut scheduled = schedule(config, &inputs, target_model, train_end, &first, progress)?;
+    let mut scheduled = schedule(
+        config,
+        &structure,
+        regressors,
+        target_model,
+        train_end,
+        &first,
+        progress,
+    )?;
     if !m.variables_given {
         // By default the regimes are first found on every input; the inputs the selected
         // structure uses are then tried as the scheduling variables, kept if the selection's
@@ -265,8 +280,15 @@ pub fn build(config: &Config, progress: &dyn Fn(&str)) -> Result<Built, BuildErr
         let used = used_inputs(&scheduled.selection.terms);
         if !used.is_empty() && used != scheduled.vars && !m.include_target && used.len() <= max {
             progress("clustering again on the inputs the structure uses");
-            if let Ok(second) = schedule(config, &inputs, target_model, train_end, &used, progress)
-            {
+            if let Ok(second) = schedule(
+                config,
+                &structure,
+                regressors,
+                target_model,
+                train_end,
+                &used,
+                progress,
+            ) {
                 if second.selection.validation_rmse < scheduled.selection.validation_rmse {
                     notes.push(scheduling_note(&scheduled, &second, config));
                     scheduled = second;
@@ -294,7 +316,7 @@ pub fn build(config: &Config, progress: &dyn Fn(&str)) -> Result<Built, BuildErr
         Estimation::Global => fit_global(
             &terms,
             &weights,
-            &inputs,
+            regressors,
             &selection_target,
             &train_rows,
             selection.ridge.max(1e-10),
@@ -310,7 +332,7 @@ pub fn build(config: &Config, progress: &dyn Fn(&str)) -> Result<Built, BuildErr
             &terms,
             &fits,
             &weights,
-            &inputs,
+            regressors,
             &selection_target,
             fit_rows,
             40,
@@ -320,14 +342,14 @@ pub fn build(config: &Config, progress: &dyn Fn(&str)) -> Result<Built, BuildErr
                     &terms,
                     &better,
                     &weights,
-                    &inputs,
+                    regressors,
                     &selection_target,
                     hold_out.clone(),
                 ) < simulation_mse(
                     &terms,
                     &fits,
                     &weights,
-                    &inputs,
+                    regressors,
                     &selection_target,
                     hold_out,
                 ) =>
@@ -343,7 +365,7 @@ pub fn build(config: &Config, progress: &dyn Fn(&str)) -> Result<Built, BuildErr
     progress("fitting the global linear baseline");
     let baseline_fit = fit_baseline(
         &terms,
-        &inputs,
+        regressors,
         &selection_target,
         &train_rows,
         selection.ridge,
@@ -448,6 +470,7 @@ pub fn build(config: &Config, progress: &dyn Fn(&str)) -> Result<Built, BuildErr
     let scored: Vec<usize> = (test_start..n)
         .filter(|&k| {
             ds.target_status[k] == CellStatus::Valid
+                && fresh[k].is_finite()
                 && estimates[k].value.is_finite()
                 && estimates[k].status & Status::FALLBACK == 0
         })
@@ -470,8 +493,7 @@ pub fn build(config: &Config, progress: &dyn Fn(&str)) -> Result<Built, BuildErr
         &terms,
         std::slice::from_ref(&baseline_fit),
         &ones,
-        &inputs,
-        target_model,
+        regressors,
         test_start..n,
     )
     .into_iter()
@@ -561,13 +583,15 @@ struct Scheduled {
 /// its parameters.
 fn schedule(
     config: &Config,
-    inputs: &[Vec<f64>],
+    structure: &StructureParams,
+    regressors: Regressors<'_>,
     target_model: &[f64],
     train_end: usize,
     vars: &[usize],
     progress: &dyn Fn(&str),
 ) -> Result<Scheduled, BuildError> {
     let m = &config.modelling;
+    let inputs = regressors.inputs;
     let n = target_model.len();
     // Regimes on the scheduling variables (and the target, in product space), training rows only.
     let rows: Vec<usize> = (0..train_end)
@@ -659,9 +683,9 @@ fn schedule(
     }
 
     progress("selecting lags and dead times");
-    let selection = select(&structure_params(m), &weights, inputs, &selection_target)?;
+    let selection = select(structure, &weights, regressors, &selection_target)?;
     let terms = selection.terms.clone();
-    let train_rows = design::usable_rows(&terms, inputs, &selection_target, 0..train_end);
+    let train_rows = design::usable_rows(&terms, regressors, &selection_target, 0..train_end);
     if train_rows.len() < 10 * c * (terms.len() + 1) {
         return Err(BuildError::TooLittleData(format!(
             "only {} usable training rows for {c} regimes × {} parameters; use fewer regimes or inputs, or more data",
@@ -698,22 +722,43 @@ fn schedule(
     })
 }
 
-/// The structure search's settings from the config.
-fn structure_params(m: &crate::config::Modelling) -> StructureParams {
-    let mut sp = StructureParams::new(m.max_lag.clone(), m.max_output_lag);
+/// The structure search's settings from the config, with past outputs one reading cycle apart
+/// (as many as the format's longest lag allows).
+fn structure_params(m: &crate::config::Modelling, reading_cycle: usize) -> StructureParams {
+    let step = reading_cycle.max(1);
+    let most = m.max_output_lag.min(regimix_format::limits::MAX_LAG / step);
+    let mut sp = StructureParams::new(m.max_lag.clone(), most);
+    sp.output_step = step;
     sp.min_improvement = m.min_improvement;
     sp.weight_power = m.fuzziness;
     sp
 }
 
+/// Says that an analyzer's held readings are left out of the fit and the scores, and that past
+/// estimates are one cycle apart (none when every sample is a reading).
+fn reading_note(reading_cycle: usize, fresh: &[f64], config: &Config) -> Option<String> {
+    if reading_cycle < 2 {
+        return None;
+    }
+    let readings = fresh.iter().filter(|v| v.is_finite()).count();
+    let every = Span::from_micros(reading_cycle as i64 * config.sample_time.micros());
+    let feedback = if config.modelling.max_output_lag > 0 {
+        format!("; past estimates, when fed back, are one cycle ({reading_cycle} samples) apart")
+    } else {
+        String::new()
+    };
+    Some(format!(
+        "the export holds each analyzer reading for about {every} ({reading_cycle} samples): only the {readings} fresh readings are fitted and scored, as the held repeats lag the process by up to one cycle{feedback}"
+    ))
+}
+
 /// The inputs one linear model (a single regime) selects on the training rows.
 fn linear_inputs(
-    config: &Config,
-    inputs: &[Vec<f64>],
+    structure: &StructureParams,
+    regressors: Regressors<'_>,
     target_model: &[f64],
     train_end: usize,
 ) -> Result<Vec<usize>, BuildError> {
-    let m = &config.modelling;
     let n = target_model.len();
     let target: Vec<f64> = (0..n)
         .map(|k| {
@@ -724,7 +769,7 @@ fn linear_inputs(
             }
         })
         .collect();
-    let selection = select(&structure_params(m), &[vec![1.0; n]], inputs, &target)?;
+    let selection = select(structure, &[vec![1.0; n]], regressors, &target)?;
     Ok(used_inputs(&selection.terms))
 }
 

@@ -223,15 +223,19 @@ pub fn model_yaml(b: &Built) -> String {
     out
 }
 
-/// `validation.csv`: timestamp, measured, estimate, status, flags, period (train/test).
+/// `validation.csv`: timestamp, measured, estimate, status, flags, period (train/test), fresh
+/// (1: a new reading, fitted and scored; 0: an analyzer reading held from before; empty: no
+/// measured value).
 pub fn validation_csv(b: &Built) -> String {
     let ds = &b.prepared.dataset;
-    let mut out = String::from("timestamp,measured,estimate,status,flags,period\n");
+    let fresh = ds.fresh_target_model();
+    let mut out = String::from("timestamp,measured,estimate,status,flags,period,fresh\n");
     for (k, e) in b.estimates.iter().enumerate() {
-        let measured = if ds.target_status[k] == CellStatus::Valid {
-            format!("{:?}", ds.target[k])
+        let (measured, new) = if ds.target_status[k] == CellStatus::Valid {
+            let new = if fresh[k].is_finite() { "1" } else { "0" };
+            (format!("{:?}", ds.target[k]), new)
         } else {
-            String::new()
+            (String::new(), "")
         };
         let estimate = if e.value.is_finite() {
             format!("{:?}", e.value)
@@ -240,7 +244,7 @@ pub fn validation_csv(b: &Built) -> String {
         };
         let _ = writeln!(
             out,
-            "{},{measured},{estimate},{},{},{}",
+            "{},{measured},{estimate},{},{},{},{new}",
             Rfc3339(e.time),
             e.status,
             status_text(e.status),

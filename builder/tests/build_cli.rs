@@ -71,7 +71,7 @@ fn demo_build_writes_everything_and_beats_the_linear_model() {
         "no network references besides SVG namespaces"
     );
     let csv = std::fs::read_to_string(o.join("validation.csv")).expect("csv");
-    assert!(csv.starts_with("timestamp,measured,estimate,status,flags,period\n"));
+    assert!(csv.starts_with("timestamp,measured,estimate,status,flags,period,fresh\n"));
     let inspect = regimix(dir.path(), &["inspect", "demo-out/model.rgmx", "--json"]);
     let json: serde_json::Value = serde_json::from_slice(&inspect.stdout).expect("inspect json");
     assert_eq!(
@@ -333,6 +333,60 @@ fn a_plant_with_output_lags_simulates_as_fitted() {
             .expect("json");
     let r2 = summary["test"]["r2"].as_f64().expect("r2");
     assert!(r2 > 0.99, "free-run test R² {r2}");
+}
+
+/// The small plant (y(k) = 0.9·y(k−1) + 0.002·X1(k)² + noise) read by an analyzer that gives a
+/// new value every fourth sample, held in between. Four samples of the recursion give
+/// y(k) = 0.9⁴·y(k−4) + Σᵢ 0.9ⁱ·0.002·X1(k−i)²: the build fits and scores the fresh readings
+/// only, takes past estimates one cycle (4 samples) back, and recovers the plant's time constant,
+/// −Ts / ln 0.9 = 569.5 s for Ts = 60 s (zero-order-hold discretization of a first-order lag;
+/// Seborg, Edgar & Mellichamp, Process Dynamics and Control).
+#[test]
+fn a_held_analyzer_is_fitted_on_its_fresh_readings() {
+    let dir = tempfile::tempdir().expect("tempdir");
+    let held = std::cell::RefCell::new(String::new());
+    small_plant(dir.path(), |k, row| {
+        if k % 4 == 0 {
+            *held.borrow_mut() = row[3].clone();
+        }
+        row[3] = held.borrow().clone();
+    });
+    let config = SMALL.replace(
+        "structure: { max-lag: 5min }",
+        "structure: { max-lag: 5min, max-output-lag: 1 }",
+    );
+    write(dir.path(), "c.yaml", &config);
+    let r = regimix(dir.path(), &["build", "c.yaml", "--out", "o", "--quiet"]);
+    assert!(r.status.success(), "{}", String::from_utf8_lossy(&r.stderr));
+    let summary: serde_json::Value =
+        serde_json::from_slice(&std::fs::read(dir.path().join("o/summary.json")).expect("summary"))
+            .expect("json");
+    let notes = summary["notes"].to_string();
+    let readings: usize = notes
+        .split("about 4min (4 samples): only the ")
+        .nth(1)
+        .and_then(|rest| rest.split(' ').next())
+        .and_then(|n| n.parse().ok())
+        .unwrap_or_else(|| panic!("{notes}"));
+    // 3,000 samples, one reading in four (a few screened out).
+    assert!((740..=750).contains(&readings), "{notes}");
+    // The test block is the last quarter (750 samples): one reading in four is scored.
+    let scored = summary["test"]["samples"].as_u64().expect("samples");
+    assert!((180..=188).contains(&scored), "{scored} scored");
+    let regressors = summary["regressors"].to_string();
+    assert!(regressors.contains("Y(k-4)"), "{regressors}");
+    let inspect = regimix(dir.path(), &["inspect", "o/model.rgmx", "--json"]);
+    let json: serde_json::Value = serde_json::from_slice(&inspect.stdout).expect("inspect json");
+    let regimes = json["regimes"].as_array().expect("regimes");
+    for regime in regimes {
+        let tau = regime["pole_time_constant"]
+            .as_f64()
+            .expect("time constant");
+        assert!((tau - 569.5).abs() < 0.1 * 569.5, "τ {tau} s: {regime}");
+    }
+    let csv = std::fs::read_to_string(dir.path().join("o/validation.csv")).expect("csv");
+    let fresh = csv.lines().filter(|l| l.ends_with(",1")).count();
+    assert_eq!(fresh, readings, "rows marked as fresh readings");
 }
 
 /// The small plant responds to X1 over about ten samples (y(k) = 0.9·y(k−1) + …). Searched only

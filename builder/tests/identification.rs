@@ -8,6 +8,7 @@
 //! - Synthetic delay systems and a three-regime piecewise-affine process with known parameters.
 
 use regimix_builder::analysis::step_timing;
+use regimix_builder::identify::design::Regressors;
 use regimix_builder::identify::gains::gains;
 use regimix_builder::identify::stepwise::{select, StructureParams};
 use regimix_builder::identify::wls::{accumulate, solve};
@@ -102,7 +103,13 @@ fn first_order_plus_dead_time_is_recovered() {
     let measured: Vec<f64> = y.iter().map(|v| v + 0.005 * rng.normal()).collect();
     let weights = vec![vec![1.0; n]];
     let params = StructureParams::new(vec![8], 2);
-    let sel = select(&params, &weights, &[u], &measured).expect("select");
+    let sel = select(
+        &params,
+        &weights,
+        Regressors::new(&[u], &measured),
+        &measured,
+    )
+    .expect("select");
     assert_eq!(
         sel.terms,
         vec![Term::Input { input: 0, lag: 3 }, Term::Output { lag: 1 }],
@@ -137,7 +144,7 @@ fn stepwise_finds_dead_time_and_order_and_rejects_an_irrelevant_input() {
         y[k] = 0.7 * y[k - 1] + 0.2 * u1[k - 4] + 0.1 * u1[k - 5] + 0.01 * rng.normal();
     }
     let params = StructureParams::new(vec![8, 8], 3);
-    let sel = select(&params, &[vec![1.0; n]], &[u1, u2], &y).expect("select");
+    let sel = select(&params, &[vec![1.0; n]], Regressors::new(&[u1, u2], &y), &y).expect("select");
     assert_eq!(
         sel.terms,
         vec![
@@ -196,7 +203,7 @@ fn three_regime_gains_and_time_constants_are_recovered() {
     // The regimes are known to be first order (order selection is tested above); with equation
     // noise, free-run validation would otherwise buy a 3 % smaller error with a second output lag.
     let params = StructureParams::new(vec![4, 0], 1);
-    let sel = select(&params, &weights, &[u, s], &y).expect("select");
+    let sel = select(&params, &weights, Regressors::new(&[u, s], &y), &y).expect("select");
     let ts = 60.0;
     for (i, (gain, a)) in truth.iter().enumerate() {
         let g = gains(&sel.terms, &sel.fits[i], 1000.0);

@@ -6,14 +6,14 @@
 //! Baseline: the same regressors in one linear model (every weight 1), always reported beside
 //! the blend.
 
-use super::design::{value, Term};
+use super::design::{Regressors, Term};
 use super::wls::{accumulate, solve, Fit, FitError};
 
 /// Fits all regimes in one problem. `weights` are the blending memberships.
 pub fn fit_global(
     terms: &[Term],
     weights: &[Vec<f64>],
-    inputs: &[Vec<f64>],
+    regressors: Regressors<'_>,
     target: &[f64],
     rows: &[usize],
     ridge: f64,
@@ -30,7 +30,7 @@ pub fn fit_global(
                 at += 1;
             }
             for &t in terms {
-                out[at] = w[r] * value(t, r, inputs, target);
+                out[at] = w[r] * regressors.value(t, r);
                 at += 1;
             }
         }
@@ -67,14 +67,14 @@ pub fn fit_global(
 /// The one-regime linear model on the same terms (every weight 1).
 pub fn fit_baseline(
     terms: &[Term],
-    inputs: &[Vec<f64>],
+    regressors: Regressors<'_>,
     target: &[f64],
     rows: &[usize],
     ridge: f64,
 ) -> Result<Fit, FitError> {
     let row = |r: usize, out: &mut [f64]| {
         for (o, &t) in out.iter_mut().zip(terms) {
-            *o = value(t, r, inputs, target);
+            *o = regressors.value(t, r);
         }
     };
     let grams = accumulate(rows, terms.len(), &row, target, &[vec![1.0; target.len()]]);
@@ -100,8 +100,9 @@ mod tests {
         let terms = [Term::Input { input: 0, lag: 0 }];
         let rows: Vec<usize> = (0..n).collect();
         let weights = vec![w1, w2];
-        let fits =
-            fit_global(&terms, &weights, std::slice::from_ref(&x), &y, &rows, 0.0).expect("fit");
+        let inputs = [x];
+        let regressors = Regressors::new(&inputs, &y);
+        let fits = fit_global(&terms, &weights, regressors, &y, &rows, 0.0).expect("fit");
         assert!(
             (fits[0].theta[0] - 1.0).abs() < 1e-9 && (fits[0].theta[1] - 2.0).abs() < 1e-9,
             "{:?}",
@@ -112,9 +113,9 @@ mod tests {
             "{:?}",
             fits[1].theta
         );
-        let pred = predict(&terms, &fits, &weights, std::slice::from_ref(&x), &y, 0..n);
+        let pred = predict(&terms, &fits, &weights, regressors, 0..n);
         assert!(pred.iter().all(|(k, p)| (p - y[*k]).abs() < 1e-9));
-        let base = fit_baseline(&terms, &[x], &y, &rows, 0.0).expect("baseline");
+        let base = fit_baseline(&terms, regressors, &y, &rows, 0.0).expect("baseline");
         assert_eq!(base.theta.len(), 2);
     }
 }

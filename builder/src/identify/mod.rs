@@ -2,8 +2,9 @@
 //! order, output order) chosen by stepwise validation.
 //!
 //! ## The algorithm
-//! 1. Candidates: every input at lags `0..=max_lag_j`; past outputs `1..=max_output_lag` (only for
-//!    a frequent analyzer target — lab samples are too sparse to feed back).
+//! 1. Candidates: every input at lags `0..=max_lag_j`; up to `max_output_lag` past outputs (only
+//!    for a frequent analyzer target — lab samples are too sparse to feed back), one sample
+//!    apart, or one analyzer cycle apart when the export holds each reading until the next.
 //! 2. Rows are split in time: a training block, a gap of the largest lag, a validation block.
 //! 3. One pass accumulates, per regime, the weighted Gram matrix of all candidates on the
 //!    training rows ([`wls::accumulate`]); every subset is then a small solve.

@@ -10,7 +10,7 @@ use argmin::core::{CostFunction, Error, Executor, Gradient, State};
 use argmin::solver::linesearch::MoreThuenteLineSearch;
 use argmin::solver::quasinewton::LBFGS;
 
-use super::design::Term;
+use super::design::{Regressors, Term};
 use super::stepwise::{mean_squared_error, predict};
 use super::wls::Fit;
 
@@ -19,7 +19,7 @@ struct OutputError<'a> {
     terms: &'a [Term],
     template: &'a [Fit],
     weights: &'a [Vec<f64>],
-    inputs: &'a [Vec<f64>],
+    regressors: Regressors<'a>,
     target: &'a [f64],
     rows: std::ops::Range<usize>,
 }
@@ -38,16 +38,16 @@ impl OutputError<'_> {
     }
 }
 
-/// Mean squared free-run error of `fits` on `rows`.
+/// Mean squared free-run error of `fits` on the rows in `rows` with a finite target.
 pub fn simulation_mse(
     terms: &[Term],
     fits: &[Fit],
     weights: &[Vec<f64>],
-    inputs: &[Vec<f64>],
+    regressors: Regressors<'_>,
     target: &[f64],
     rows: std::ops::Range<usize>,
 ) -> f64 {
-    mean_squared_error(&predict(terms, fits, weights, inputs, target, rows), target)
+    mean_squared_error(&predict(terms, fits, weights, regressors, rows), target)
 }
 
 impl CostFunction for OutputError<'_> {
@@ -59,7 +59,7 @@ impl CostFunction for OutputError<'_> {
             self.terms,
             &self.fits(theta),
             self.weights,
-            self.inputs,
+            self.regressors,
             self.target,
             self.rows.clone(),
         );
@@ -92,7 +92,7 @@ pub fn refine(
     terms: &[Term],
     fits: &[Fit],
     weights: &[Vec<f64>],
-    inputs: &[Vec<f64>],
+    regressors: Regressors<'_>,
     target: &[f64],
     rows: std::ops::Range<usize>,
     iterations: u64,
@@ -101,7 +101,7 @@ pub fn refine(
         terms,
         template: fits,
         weights,
-        inputs,
+        regressors,
         target,
         rows,
     };
@@ -161,9 +161,10 @@ mod tests {
         );
         let ls = vec![solve(&grams[0], &[0, 1], 0.0).expect("fit")];
         let inputs = vec![u];
-        let refined = refine(&terms, &ls, &weights, &inputs, &y, 1..3000, 30).expect("refine");
-        let before = simulation_mse(&terms, &ls, &weights, &inputs, &y, 3000..n);
-        let after = simulation_mse(&terms, &refined, &weights, &inputs, &y, 3000..n);
+        let regressors = Regressors::new(&inputs, &y);
+        let refined = refine(&terms, &ls, &weights, regressors, &y, 1..3000, 30).expect("refine");
+        let before = simulation_mse(&terms, &ls, &weights, regressors, &y, 3000..n);
+        let after = simulation_mse(&terms, &refined, &weights, regressors, &y, 3000..n);
         assert!(after < before, "hold-out free-run MSE {after} vs {before}");
         let (a_ls, a_oe) = (ls[0].theta[2], refined[0].theta[2]);
         assert!(

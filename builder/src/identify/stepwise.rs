@@ -2,7 +2,7 @@
 
 use statrs::distribution::{ContinuousCDF, FisherSnedecor};
 
-use super::design::{candidates, usable_rows, value, Term};
+use super::design::{candidates, usable_rows, Regressors, Term};
 use super::wls::{accumulate, solve, Fit, FitError, Gram};
 
 /// Settings of the structure search.
@@ -10,8 +10,11 @@ use super::wls::{accumulate, solve, Fit, FitError, Gram};
 pub struct StructureParams {
     /// Largest lag per input, in samples.
     pub max_lag: Vec<usize>,
-    /// Largest output lag (0: static / FIR model, as for lab targets).
+    /// Most past outputs (0: static / FIR model, as for lab targets).
     pub max_output_lag: usize,
+    /// Samples between past outputs: 1, or an analyzer's cycle when the export holds each
+    /// reading until the next (only then is the output one cycle back a fresh reading).
+    pub output_step: usize,
     /// Significance level of the partial F-test to enter.
     pub alpha_enter: f64,
     /// Candidates scored on the validation block per forward step.
@@ -39,6 +42,7 @@ impl StructureParams {
         StructureParams {
             max_lag,
             max_output_lag,
+            output_step: 1,
             alpha_enter: 0.05,
             shortlist: 5,
             min_improvement: 0.01,
@@ -87,8 +91,7 @@ pub fn predict(
     terms: &[Term],
     fits: &[Fit],
     weights: &[Vec<f64>],
-    inputs: &[Vec<f64>],
-    target: &[f64],
+    regressors: Regressors<'_>,
     rows: std::ops::Range<usize>,
 ) -> Vec<(usize, f64)> {
     let free_run = terms.iter().any(|t| matches!(t, Term::Output { .. }));
@@ -102,7 +105,7 @@ pub fn predict(
                 Term::Output { lag } if free_run && k >= lag && own[k - lag].is_finite() => {
                     own[k - lag]
                 }
-                _ => value(t, k, inputs, target),
+                _ => regressors.value(t, k),
             };
             ok &= v.is_finite();
             x.push(v);
@@ -174,7 +177,9 @@ fn extensions(selected: &[Term], params: &StructureParams) -> Vec<Term> {
         .filter(|t| matches!(t, Term::Output { .. }))
         .count();
     if na < params.max_output_lag {
-        out.push(Term::Output { lag: na + 1 });
+        out.push(Term::Output {
+            lag: (na + 1) * params.output_step.max(1),
+        });
     }
     out
 }
@@ -192,7 +197,8 @@ fn removable(selected: &[Term]) -> Vec<Term> {
                 }
             }
             Term::Output { lag } => {
-                if !selected.contains(&Term::Output { lag: lag + 1 }) {
+                let longer = |u: &Term| matches!(u, Term::Output { lag: l } if *l > lag);
+                if !selected.iter().any(longer) {
                     out.push(t);
                 }
             }
@@ -205,7 +211,7 @@ struct Problem<'a> {
     all: Vec<Term>,
     grams: Vec<Gram>,
     weights: &'a [Vec<f64>],
-    inputs: &'a [Vec<f64>],
+    regressors: Regressors<'a>,
     target: &'a [f64],
     validation: std::ops::Range<usize>,
 }
@@ -229,8 +235,7 @@ impl Problem<'_> {
             terms,
             &fits,
             self.weights,
-            self.inputs,
-            self.target,
+            self.regressors,
             self.validation.clone(),
         );
         Ok((fits, rmse(&pred, self.target)))
@@ -278,16 +283,17 @@ impl From<FitError> for SelectionError {
 }
 
 /// Chooses the structure and fits every regime. `weights[i][k]` is regime `i`'s membership of row
-/// `k`; `inputs[j][k]` input `j` in engineering units; `target[k]` the model-domain target.
+/// `k`; `regressors` the inputs and the target's history; `target[k]` the model-domain target
+/// of row `k` (NaN: not fitted nor scored).
 pub fn select(
     params: &StructureParams,
     weights: &[Vec<f64>],
-    inputs: &[Vec<f64>],
+    regressors: Regressors<'_>,
     target: &[f64],
 ) -> Result<Selection, SelectionError> {
-    let all = candidates(&params.max_lag, params.max_output_lag);
+    let all = candidates(&params.max_lag, params.max_output_lag, params.output_step);
     let n = target.len();
-    let usable = usable_rows(&all, inputs, target, 0..n);
+    let usable = usable_rows(&all, regressors, target, 0..n);
     // Enough rows to fit an offset and a couple of regressors per regime, and to validate.
     let needed = 20 + 6 * weights.len();
     if usable.len() < needed {
@@ -313,7 +319,7 @@ pub fn select(
     let p = all.len();
     let row = |k: usize, out: &mut [f64]| {
         for (o, &t) in out.iter_mut().zip(&all) {
-            *o = value(t, k, inputs, target);
+            *o = regressors.value(t, k);
         }
     };
     let estimation: Vec<Vec<f64>> = weights
@@ -325,7 +331,7 @@ pub fn select(
         all: all.clone(),
         grams,
         weights,
-        inputs,
+        regressors,
         target,
         validation: validation.clone(),
     };
@@ -474,6 +480,28 @@ mod tests {
         );
     }
 
+    /// Past outputs one analyzer cycle apart: the next candidate is one more cycle back, and
+    /// only the longest may go.
+    #[test]
+    fn past_outputs_step_by_the_output_step() {
+        let mut params = StructureParams::new(vec![1], 3);
+        params.output_step = 5;
+        let selected = vec![
+            Term::Input { input: 0, lag: 0 },
+            Term::Output { lag: 5 },
+            Term::Output { lag: 10 },
+        ];
+        let ext = extensions(&selected, &params);
+        assert!(ext.contains(&Term::Output { lag: 15 }), "{ext:?}");
+        assert!(!ext
+            .iter()
+            .any(|t| matches!(t, Term::Output { lag } if *lag != 15)));
+        assert_eq!(
+            removable(&selected),
+            vec![Term::Input { input: 0, lag: 0 }, Term::Output { lag: 10 }]
+        );
+    }
+
     /// Too few target rows: the message names the count and what helps (fewer regimes only
     /// while more than the smallest count, 2, are asked for).
     #[test]
@@ -486,7 +514,8 @@ mod tests {
             .collect();
         for (c, fewer) in [(2, false), (3, true)] {
             let weights = vec![vec![1.0 / c as f64; n]; c];
-            let err = select(&params, &weights, &inputs, &target).expect_err("too few");
+            let regressors = Regressors::new(&inputs, &target);
+            let err = select(&params, &weights, regressors, &target).expect_err("too few");
             assert_eq!(
                 err,
                 SelectionError::TooFewRows {

@@ -310,12 +310,10 @@ impl Audit {
                 source: config.target.source,
                 usable_samples: dataset.usable_target_rows(),
                 lab,
-                update_every: match config.target.source {
-                    TargetSource::Analyzer => dataset.target_update_samples().map(|n| {
-                        Span::from_micros(n as i64 * config.sample_time.micros()).to_string()
-                    }),
-                    TargetSource::Lab => None,
-                },
+                update_every: (dataset.reading_cycle > 1).then(|| {
+                    Span::from_micros(dataset.reading_cycle as i64 * config.sample_time.micros())
+                        .to_string()
+                }),
             },
             tags,
             warnings: Vec::new(),

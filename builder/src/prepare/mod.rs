@@ -63,6 +63,10 @@ pub struct Dataset {
     pub target_status: Vec<CellStatus>,
     /// The target transform.
     pub transform: Transform,
+    /// Grid samples between an analyzer's readings when the export holds each reading until the
+    /// next ([`Dataset::target_update_samples`]); 1 when every sample is a reading (and for lab
+    /// targets).
+    pub reading_cycle: usize,
 }
 
 impl Dataset {
@@ -103,6 +107,33 @@ impl Dataset {
         }
         runs.sort_unstable();
         runs.get(runs.len() / 2).copied().filter(|&m| m >= 2)
+    }
+
+    /// The model-domain target at its fresh readings only: a sample that repeats the reading
+    /// before it is NaN, unless it lies a whole number of reading cycles into the run (a steady
+    /// value the analyzer reports again). With a reading cycle of 1 this is `target_model`.
+    /// A held sample lags the process by up to one cycle, so it is neither fitted nor scored.
+    pub fn fresh_target_model(&self) -> Vec<f64> {
+        let cycle = self.reading_cycle.max(1);
+        let mut out = self.target_model.clone();
+        if cycle == 1 {
+            return out;
+        }
+        let mut last: Option<u64> = None;
+        let mut into_run = 0usize;
+        for ((slot, value), status) in out.iter_mut().zip(&self.target).zip(&self.target_status) {
+            let bits = (*status == CellStatus::Valid).then(|| value.to_bits());
+            if bits.is_some() && bits == last {
+                into_run += 1;
+                if !into_run.is_multiple_of(cycle) {
+                    *slot = f64::NAN;
+                }
+            } else {
+                into_run = 0;
+            }
+            last = bits;
+        }
+        out
     }
 }
 
@@ -318,7 +349,7 @@ pub fn prepare(config: &Config) -> Result<Prepared, DataError> {
     if let Some(last) = tags.last_mut() {
         last.outside_transform = outside;
     }
-    let dataset = Dataset {
+    let mut dataset = Dataset {
         grid,
         input_tags: config.inputs.clone(),
         inputs,
@@ -327,7 +358,11 @@ pub fn prepare(config: &Config) -> Result<Prepared, DataError> {
         target_model,
         target_status,
         transform,
+        reading_cycle: 1,
     };
+    if analyzer {
+        dataset.reading_cycle = dataset.target_update_samples().unwrap_or(1);
+    }
     let (lab, lab_files) = lab.unzip();
     let audit = Audit::new(
         config,
@@ -338,4 +373,55 @@ pub fn prepare(config: &Config) -> Result<Prepared, DataError> {
         lab_files.unwrap_or_default(),
     );
     Ok(Prepared { dataset, audit })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn dataset(target: &[f64], reading_cycle: usize) -> Dataset {
+        let n = target.len();
+        Dataset {
+            grid: Grid::spanning(0, 60_000_000 * (n as i64 - 1), 60_000_000),
+            input_tags: Vec::new(),
+            inputs: Array2::zeros((n, 0)),
+            input_status: Array2::from_elem((n, 0), CellStatus::Valid),
+            target: target.to_vec(),
+            target_model: target.iter().map(|v| v * 10.0).collect(),
+            target_status: target
+                .iter()
+                .map(|v| {
+                    if v.is_finite() {
+                        CellStatus::Valid
+                    } else {
+                        CellStatus::NoData
+                    }
+                })
+                .collect(),
+            transform: Transform::Identity,
+            reading_cycle,
+        }
+    }
+
+    /// An analyzer read every third sample: its cycle is found, the held repeats are dropped, a
+    /// gap starts a new reading, and a steady value reported again a cycle later is kept.
+    #[test]
+    fn held_analyzer_readings_leave_the_fresh_ones() {
+        let nan = f64::NAN;
+        let target = [
+            1.0, 1.0, 1.0, 2.0, 2.0, 2.0, 2.0, 2.0, 2.0, 2.0, 3.0, nan, 3.0, 3.0, 4.0, 4.0, 4.0,
+        ];
+        let mut ds = dataset(&target, 1);
+        assert_eq!(ds.target_update_samples(), Some(3));
+        ds.reading_cycle = 3;
+        let fresh = ds.fresh_target_model();
+        let kept: Vec<usize> = (0..target.len())
+            .filter(|&k| fresh[k].is_finite())
+            .collect();
+        assert_eq!(kept, vec![0, 3, 6, 9, 10, 12, 14]);
+        assert_eq!(fresh[6], 20.0, "model-domain values");
+        ds.reading_cycle = 1;
+        let every = ds.fresh_target_model();
+        assert_eq!(every.iter().filter(|v| v.is_finite()).count(), 16);
+    }
 }

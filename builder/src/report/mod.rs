@@ -129,14 +129,27 @@ pub fn report_html(b: &Built, config: &Config, s: &Summary) -> String {
             if lab { " (lab results as points)" } else { "" }
         ),
     ));
+    // The scored samples: an analyzer's fresh readings, not its held repeats.
+    let fresh = ds.fresh_target_model();
     let pairs: Vec<(f64, f64)> = test_rows
         .iter()
-        .filter(|&&k| ds.target_status[k] == CellStatus::Valid && b.estimates[k].value.is_finite())
+        .filter(|&&k| {
+            ds.target_status[k] == CellStatus::Valid
+                && fresh[k].is_finite()
+                && b.estimates[k].value.is_finite()
+        })
         .map(|&k| (ds.target[k], b.estimates[k].value))
         .collect();
     h.push_str(&plots::figure(
         &plots::parity(&pairs, unit),
-        "Parity: estimate against measurement on the test block; the line is equality.",
+        &format!(
+            "Parity: estimate against measurement on the test block{}; the line is equality.",
+            if ds.reading_cycle > 1 {
+                " (fresh analyzer readings)"
+            } else {
+                ""
+            }
+        ),
     ));
     let residuals: Vec<f64> = pairs.iter().map(|(y, e)| e - y).collect();
     h.push_str(&plots::figure(
