@@ -51,23 +51,55 @@ pub struct RegimeDynamics {
 /// Step-response horizon in samples.
 const HORIZON: usize = 20_000;
 
+/// Roots (re, im) of `z^na − a₁ z^(na−1) − … − a_na` for `a` = [a₁ … a_na] (NaN if the
+/// eigenvalue iteration does not converge).
+///
+/// Past outputs one analyzer cycle apart make a polynomial in `w = z^g`, `g` the greatest common
+/// divisor of the lags in use: its roots are found for `w` from a companion matrix `g` times
+/// smaller and spread over the `g`-th roots. The QR iteration does not converge on the sparse
+/// companion matrix of, say, `z^10 − a` (a cyclic shift; the unbounded iteration hung `build`
+/// and `inspect`), and is capped in any case.
 fn poles(a: &[f64]) -> Vec<(f64, f64)> {
     let na = a.len();
-    if na == 0 {
-        return Vec::new();
+    let used: Vec<usize> = (1..=na).filter(|&lag| a[lag - 1] != 0.0).collect();
+    let Some(&longest) = used.last() else {
+        return vec![(0.0, 0.0); na];
+    };
+    let g = used.iter().fold(0, |d, &lag| gcd(d, lag));
+    let order = longest / g;
+    // Companion matrix of w^order − a_g w^(order−1) − a_2g w^(order−2) − …
+    let mut m = DMatrix::<f64>::zeros(order, order);
+    for i in 0..order {
+        m[(0, i)] = a[(i + 1) * g - 1];
     }
-    // Companion matrix of z^na − a1 z^(na−1) − … − a_na.
-    let mut m = DMatrix::<f64>::zeros(na, na);
-    for (i, ai) in a.iter().enumerate() {
-        m[(0, i)] = *ai;
-    }
-    for i in 1..na {
+    for i in 1..order {
         m[(i, i - 1)] = 1.0;
     }
-    m.complex_eigenvalues()
-        .iter()
-        .map(|z| (z.re, z.im))
-        .collect()
+    let mut out = Vec::with_capacity(na);
+    match m.try_schur(1e-14, 10_000) {
+        Some(schur) => {
+            for w in schur.complex_eigenvalues().iter() {
+                let radius = w.norm().powf(1.0 / g as f64);
+                let angle = w.arg() / g as f64;
+                for k in 0..g {
+                    let phi = angle + std::f64::consts::TAU * k as f64 / g as f64;
+                    out.push((radius * phi.cos(), radius * phi.sin()));
+                }
+            }
+        }
+        None => out.resize(longest, (f64::NAN, f64::NAN)),
+    }
+    // Lags beyond the longest in use put their roots at zero.
+    out.resize(na, (0.0, 0.0));
+    out
+}
+
+fn gcd(a: usize, b: usize) -> usize {
+    if b == 0 {
+        a
+    } else {
+        gcd(b, a % b)
+    }
 }
 
 /// Unit-step response (model domain) of one input in a regime: `lags` with coefficients `b`,
@@ -235,6 +267,33 @@ mod tests {
         let mut p: Vec<f64> = poles(&[1.5, -0.56]).iter().map(|(re, _)| *re).collect();
         p.sort_by(f64::total_cmp);
         assert!((p[0] - 0.7).abs() < 1e-12 && (p[1] - 0.8).abs() < 1e-12);
+    }
+
+    /// Past outputs one cycle apart: y = 0.6561 y(k−4) has the four roots of z⁴ = 0.6561,
+    /// ±0.9 and ±0.9i (the pole of y = 0.9 y(k−1), read every fourth sample), and a model with
+    /// past outputs ten samples apart gets its twenty roots instead of hanging.
+    #[test]
+    fn poles_of_past_outputs_one_cycle_apart() {
+        let mut a = vec![0.0; 4];
+        a[3] = 0.6561;
+        let mut roots = poles(&a);
+        assert_eq!(roots.len(), 4);
+        roots.sort_by(|x, y| x.0.total_cmp(&y.0).then(x.1.total_cmp(&y.1)));
+        let expected = [(-0.9, 0.0), (0.0, -0.9), (0.0, 0.9), (0.9, 0.0)];
+        for ((re, im), (er, ei)) in roots.iter().zip(expected) {
+            assert!((re - er).abs() < 1e-12 && (im - ei).abs() < 1e-12, "{roots:?}");
+        }
+        let mut a = vec![0.0; 20];
+        a[9] = 0.43;
+        a[19] = 0.1;
+        let roots = poles(&a);
+        assert_eq!(roots.len(), 20);
+        // w² − 0.43 w − 0.1 = 0: w = 0.6068…, −0.1648…; |z| = |w|^(1/10).
+        let w = (0.43 + (0.43f64 * 0.43 + 0.4).sqrt()) / 2.0;
+        let largest = roots.iter().map(|(r, i)| r.hypot(*i)).fold(0.0, f64::max);
+        assert!((largest - w.powf(0.1)).abs() < 1e-12, "{largest}");
+        // A trailing zero lag is a root at the origin.
+        assert_eq!(poles(&[0.5, 0.0]), vec![(0.5, 0.0), (0.0, 0.0)]);
     }
 
     #[test]

@@ -282,6 +282,9 @@ impl From<FitError> for SelectionError {
     }
 }
 
+/// Accepted steps (additions and removals) of the search per allowed term, at most.
+const MAX_STEPS_PER_TERM: usize = 4;
+
 /// Chooses the structure and fits every regime. `weights[i][k]` is regime `i`'s membership of row
 /// `k`; `regressors` the inputs and the target's history; `target[k]` the model-domain target
 /// of row `k` (NaN: not fitted nor scored).
@@ -341,7 +344,9 @@ pub fn select(
     let mut selected: Vec<Term> = Vec::new();
     let (mut fits, mut current) = problem.try_score(&selected, guard)?;
     let mut path = Vec::new();
-    while selected.len() < params.max_terms {
+    // An addition lowers the validation error by `min_improvement` at least, but the removals
+    // after it may each give back half of that, so the search could cycle: the path is capped.
+    while selected.len() < params.max_terms && path.len() < MAX_STEPS_PER_TERM * params.max_terms {
         let rss_now = Problem::rss(&fits);
         let k = selected.len() + 2;
         let df2 = total_weight - c * k as f64;
@@ -359,8 +364,16 @@ pub fn select(
                 continue;
             };
             let rss = Problem::rss(&trial_fits);
-            let f = ((rss_now - rss) / c) / (rss / df2);
-            if f.is_finite() && 1.0 - f_dist.cdf(f) < params.alpha_enter {
+            // A candidate that leaves (next to) no residual explains everything left: its F is
+            // unbounded, not the NaN or negative value rounding would give.
+            let f = if rss <= 1e-12 * rss_now {
+                f64::INFINITY
+            } else {
+                ((rss_now - rss) / c) / (rss / df2)
+            };
+            let significant =
+                f == f64::INFINITY || (f.is_finite() && 1.0 - f_dist.cdf(f) < params.alpha_enter);
+            if significant {
                 scored.push((f, term));
             }
         }
@@ -378,7 +391,8 @@ pub fn select(
         let Some((term, new_fits, e)) = best else {
             break;
         };
-        if e > current * (1.0 - params.min_improvement) {
+        // Strictly better (with `min_improvement` 0 an equal error would not be progress).
+        if e >= current * (1.0 - params.min_improvement) {
             break;
         }
         selected.push(term);
@@ -500,6 +514,37 @@ mod tests {
             removable(&selected),
             vec![Term::Input { input: 0, lag: 0 }, Term::Output { lag: 10 }]
         );
+    }
+
+    /// A target one lagged input gives exactly: that candidate leaves no residual, so its partial
+    /// F is unbounded (it had come out NaN or negative from rounding and failed the test, so the
+    /// search picked the unrelated input instead), and it enters first.
+    #[test]
+    fn a_regressor_that_explains_the_target_exactly_is_taken() {
+        let params = StructureParams::new(vec![6, 6], 2);
+        let n = 600;
+        let mut state = 11u64;
+        let mut next = move || {
+            state = state
+                .wrapping_mul(6364136223846793005)
+                .wrapping_add(1442695040888963407);
+            (state >> 11) as f64 / (1u64 << 53) as f64
+        };
+        let u: Vec<f64> = (0..n).map(|_| next()).collect();
+        let v: Vec<f64> = (0..n).map(|_| next()).collect();
+        let y: Vec<f64> = (0..n)
+            .map(|k| if k >= 2 { 3.0 * u[k - 2] } else { 0.0 })
+            .collect();
+        let inputs = [u, v];
+        let weights = vec![vec![1.0; n]];
+        let sel = select(&params, &weights, Regressors::new(&inputs, &y), &y).expect("select");
+        assert_eq!(
+            sel.path.first().map(|s| s.term),
+            Some(Term::Input { input: 0, lag: 2 }),
+            "{:?}",
+            sel.path
+        );
+        assert!(sel.validation_rmse < 1e-9, "{}", sel.validation_rmse);
     }
 
     /// Too few target rows: the message names the count and what helps (fewer regimes only
