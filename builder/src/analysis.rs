@@ -281,7 +281,10 @@ mod tests {
         roots.sort_by(|x, y| x.0.total_cmp(&y.0).then(x.1.total_cmp(&y.1)));
         let expected = [(-0.9, 0.0), (0.0, -0.9), (0.0, 0.9), (0.9, 0.0)];
         for ((re, im), (er, ei)) in roots.iter().zip(expected) {
-            assert!((re - er).abs() < 1e-12 && (im - ei).abs() < 1e-12, "{roots:?}");
+            assert!(
+                (re - er).abs() < 1e-12 && (im - ei).abs() < 1e-12,
+                "{roots:?}"
+            );
         }
         let mut a = vec![0.0; 20];
         a[9] = 0.43;

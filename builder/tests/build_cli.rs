@@ -297,7 +297,7 @@ fn check_names_an_analyzers_update_interval() {
     let r = regimix(dir.path(), &["check", "c.yaml"]);
     let text = String::from_utf8_lossy(&r.stdout);
     assert!(
-        text.contains("usable samples (analyzer; a new reading every 4min, held in between)"),
+        text.contains("usable samples (analyzer; a new reading every 4min, held in between: 748 fresh readings to fit)"),
         "{text}"
     );
     small_plant(dir.path(), |_, _| {});

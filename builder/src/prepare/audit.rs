@@ -217,6 +217,9 @@ pub struct TargetAudit {
     /// Analyzer targets: how long a reading typically lasts when the export holds it between
     /// updates ([`Dataset::target_update_samples`]), e.g. `5min`.
     pub update_every: Option<String>,
+    /// Fresh readings among the usable samples: what `build` fits and scores
+    /// ([`Dataset::fresh_target_model`]; all of them unless an analyzer's readings are held).
+    pub fresh_readings: usize,
 }
 
 /// Everything `check` reports.
@@ -314,6 +317,12 @@ impl Audit {
                     Span::from_micros(dataset.reading_cycle as i64 * config.sample_time.micros())
                         .to_string()
                 }),
+                fresh_readings: dataset
+                    .fresh_target_model()
+                    .iter()
+                    .zip(&dataset.target_status)
+                    .filter(|(v, s)| v.is_finite() && **s == CellStatus::Valid)
+                    .count(),
             },
             tags,
             warnings: Vec::new(),
@@ -777,7 +786,10 @@ impl fmt::Display for Audit {
                 TargetSource::Lab => "lab",
             },
             match &self.target.update_every {
-                Some(every) => format!("; a new reading every {every}, held in between"),
+                Some(every) => format!(
+                    "; a new reading every {every}, held in between: {} fresh readings to fit",
+                    self.target.fresh_readings
+                ),
                 None => String::new(),
             }
         )?;
