@@ -282,6 +282,17 @@ impl From<FitError> for SelectionError {
     }
 }
 
+/// Partial F statistic of a candidate: `((RSS₀ − RSS₁)/q) / (RSS₁/ν)` for `q` added parameters
+/// and `ν` residual degrees of freedom. A candidate that leaves (next to) no residual explains
+/// everything left: its F is unbounded, not the NaN or negative value rounding would give.
+fn partial_f(rss_before: f64, rss_after: f64, q: f64, dof: f64) -> f64 {
+    if rss_after <= 1e-12 * rss_before {
+        f64::INFINITY
+    } else {
+        ((rss_before - rss_after) / q) / (rss_after / dof)
+    }
+}
+
 /// Accepted steps (additions and removals) of the search per allowed term, at most.
 const MAX_STEPS_PER_TERM: usize = 4;
 
@@ -364,13 +375,7 @@ pub fn select(
                 continue;
             };
             let rss = Problem::rss(&trial_fits);
-            // A candidate that leaves (next to) no residual explains everything left: its F is
-            // unbounded, not the NaN or negative value rounding would give.
-            let f = if rss <= 1e-12 * rss_now {
-                f64::INFINITY
-            } else {
-                ((rss_now - rss) / c) / (rss / df2)
-            };
+            let f = partial_f(rss_now, rss, c, df2);
             let significant =
                 f == f64::INFINITY || (f.is_finite() && 1.0 - f_dist.cdf(f) < params.alpha_enter);
             if significant {
@@ -516,22 +521,29 @@ mod tests {
         );
     }
 
-    /// A target one lagged input gives exactly: that candidate leaves no residual, so its partial
-    /// F is unbounded (it had come out NaN or negative from rounding and failed the test, so the
-    /// search picked the unrelated input instead), and it enters first.
+    /// The partial F by its definition (e.g. Draper & Smith, *Applied Regression Analysis*, the
+    /// extra-sum-of-squares principle); a residual of zero, or below zero from rounding, gives an
+    /// unbounded F, not the 0/0 = NaN or negative value that failed the test before.
+    #[test]
+    fn partial_f_by_definition_and_without_residual() {
+        // (10 − 4)/2 = 3 over 4/30: 22.5.
+        assert!((partial_f(10.0, 4.0, 2.0, 30.0) - 22.5).abs() < 1e-12);
+        assert_eq!(partial_f(10.0, 0.0, 2.0, 30.0), f64::INFINITY);
+        assert_eq!(partial_f(10.0, -1e-20, 2.0, 30.0), f64::INFINITY);
+        assert_eq!(partial_f(0.0, 0.0, 2.0, 30.0), f64::INFINITY);
+    }
+
+    /// A target one lagged input gives exactly: that candidate leaves no residual and enters
+    /// first (a seeded uniform input and an unrelated one).
     #[test]
     fn a_regressor_that_explains_the_target_exactly_is_taken() {
+        use rand::{Rng, SeedableRng};
+        use rand_chacha::ChaCha8Rng;
         let params = StructureParams::new(vec![6, 6], 2);
         let n = 600;
-        let mut state = 11u64;
-        let mut next = move || {
-            state = state
-                .wrapping_mul(6364136223846793005)
-                .wrapping_add(1442695040888963407);
-            (state >> 11) as f64 / (1u64 << 53) as f64
-        };
-        let u: Vec<f64> = (0..n).map(|_| next()).collect();
-        let v: Vec<f64> = (0..n).map(|_| next()).collect();
+        let mut rng = ChaCha8Rng::seed_from_u64(11);
+        let u: Vec<f64> = (0..n).map(|_| rng.gen()).collect();
+        let v: Vec<f64> = (0..n).map(|_| rng.gen()).collect();
         let y: Vec<f64> = (0..n)
             .map(|k| if k >= 2 { 3.0 * u[k - 2] } else { 0.0 })
             .collect();
