@@ -281,18 +281,24 @@ fn tags_split_over_files_build_the_same_model() {
     assert!(text.contains("duplicate rows   0"), "{text}");
 }
 
+/// The small plant as an analyzer reading it every `cycle` samples exports it: each reading
+/// held until the next.
+fn small_plant_read_every(dir: &std::path::Path, cycle: usize) {
+    let held = std::cell::RefCell::new(String::new());
+    small_plant(dir, |k, row| {
+        if k % cycle == 0 {
+            *held.borrow_mut() = row[3].clone();
+        }
+        row[3] = held.borrow().clone();
+    });
+}
+
 /// An analyzer held between updates (a new value every 4 minutes in a 1-minute export): `check`
 /// names the update interval; a target that changes every sample gets no such note.
 #[test]
 fn check_names_an_analyzers_update_interval() {
     let dir = tempfile::tempdir().expect("tempdir");
-    let held = std::cell::RefCell::new(String::new());
-    small_plant(dir.path(), |k, row| {
-        if k % 4 == 0 {
-            *held.borrow_mut() = row[3].clone();
-        }
-        row[3] = held.borrow().clone();
-    });
+    small_plant_read_every(dir.path(), 4);
     write(dir.path(), "c.yaml", SMALL);
     let r = regimix(dir.path(), &["check", "c.yaml"]);
     let text = String::from_utf8_lossy(&r.stdout);
@@ -344,13 +350,7 @@ fn a_plant_with_output_lags_simulates_as_fitted() {
 #[test]
 fn a_held_analyzer_is_fitted_on_its_fresh_readings() {
     let dir = tempfile::tempdir().expect("tempdir");
-    let held = std::cell::RefCell::new(String::new());
-    small_plant(dir.path(), |k, row| {
-        if k % 4 == 0 {
-            *held.borrow_mut() = row[3].clone();
-        }
-        row[3] = held.borrow().clone();
-    });
+    small_plant_read_every(dir.path(), 4);
     let config = SMALL.replace(
         "structure: { max-lag: 5min }",
         "structure: { max-lag: 5min, max-output-lag: 1 }",
