@@ -238,3 +238,56 @@ fn three_regime_gains_and_time_constants_are_recovered() {
         );
     }
 }
+
+/// A slow first-order process (τ = 20 samples) driven by three inputs through dead times,
+/// searched with input lags up to 30 samples (ZOH relation as above). Input lags alone cannot
+/// follow it: a search that starts from no terms keeps adding lags of the first input (its
+/// validation RMSE ends near 0.14 with 24 terms), and never takes the past output, which
+/// validates worse than any input lag as long as it is the only term. The search that starts
+/// from the past output finds the structure.
+#[test]
+fn slow_process_gets_its_past_output() {
+    let tau = 20.0_f64;
+    let a = (-1.0 / tau).exp();
+    let mut rng = Lcg(23);
+    let n = 8000;
+    let u: Vec<Vec<f64>> = (0..3).map(|_| steps(n, &mut rng, 1.0)).collect();
+    let gain = [0.8, -0.5, 0.3];
+    let mut y = vec![0.0; n];
+    for k in 13..n {
+        let drive = gain[0] * u[0][k - 6] + gain[1] * u[1][k - 13] + gain[2] * u[2][k - 2];
+        y[k] = a * y[k - 1] + (1.0 - a) * drive + 0.002 * rng.normal();
+    }
+    let measured: Vec<f64> = y.iter().map(|v| v + 0.005 * rng.normal()).collect();
+    let params = StructureParams::new(vec![30; 3], 2);
+    let sel = select(
+        &params,
+        &[vec![1.0; n]],
+        Regressors::new(&u, &measured),
+        &measured,
+    )
+    .expect("select");
+    let at = |t: Term| sel.terms.iter().position(|&s| s == t);
+    let Some(feedback) = at(Term::Output { lag: 1 }) else {
+        panic!("no past output; path {:?}", sel.path);
+    };
+    let theta = &sel.fits[0].theta;
+    let a_hat = theta[1 + feedback];
+    let tau_hat = -1.0 / a_hat.ln();
+    assert!((tau_hat - tau).abs() < 0.05 * tau, "τ {tau_hat}");
+    for (input, &k) in gain.iter().enumerate() {
+        let b: f64 = sel
+            .terms
+            .iter()
+            .zip(&theta[1..])
+            .filter(|(t, _)| matches!(t, Term::Input { input: j, .. } if *j == input))
+            .map(|(_, c)| c)
+            .sum();
+        let k_hat = b / (1.0 - a_hat);
+        assert!(
+            (k_hat - k).abs() < 0.05 * k.abs(),
+            "input {input}: K {k_hat}"
+        );
+    }
+    assert!(sel.validation_rmse < 0.02, "{}", sel.validation_rmse);
+}

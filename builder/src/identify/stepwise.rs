@@ -349,12 +349,81 @@ pub fn select(
         target,
         validation: validation.clone(),
     };
-    let c = weights.len() as f64;
-    let total_weight: f64 = problem.grams.iter().map(|g| g.weight).sum();
     let guard = 1e-10; // keeps selection solves regular; the final ridge is chosen below
-    let mut selected: Vec<Term> = Vec::new();
+                       // Two searches when past outputs are allowed: from nothing, and from the nearest past output.
+                       // Fitted by equation error, a past output often simulates worse than an input lag until the
+                       // inputs that drive the output are in, so a search from nothing may never take it; the one
+                       // that validates better wins (on a tie, the one without forced feedback).
+    let mut found = search(&problem, params, guard, &[])?;
+    if params.max_output_lag > 0 {
+        let start = [Term::Output {
+            lag: params.output_step.max(1),
+        }];
+        if let Ok(other) = search(&problem, params, guard, &start) {
+            if other.current < found.current {
+                found = other;
+            }
+        }
+    }
+    let Search {
+        mut selected,
+        fits,
+        current,
+        path,
+    } = found;
+    selected.sort();
+    // Ridge chosen on the validation block.
+    let mut best_ridge = (0.0, fits.clone(), f64::INFINITY);
+    for &lambda in &params.ridge_grid {
+        if let Some((f, e)) = problem.score(&selected, lambda) {
+            if e < best_ridge.2 {
+                best_ridge = (lambda, f, e);
+            }
+        }
+    }
+    let (ridge, fits, validation_rmse) = if best_ridge.2.is_finite() {
+        best_ridge
+    } else {
+        (guard, problem.fit(&selected, guard)?, current)
+    };
+    Ok(Selection {
+        terms: selected,
+        fits,
+        ridge,
+        validation_rmse,
+        path,
+        training_rows: train.len(),
+        validation_start: validation.start,
+    })
+}
+
+/// Where one stepwise search ended.
+struct Search {
+    selected: Vec<Term>,
+    fits: Vec<Fit>,
+    current: f64,
+    path: Vec<Step>,
+}
+
+/// The forward–backward search from the terms `start` (recorded as the path's first steps).
+fn search(
+    problem: &Problem<'_>,
+    params: &StructureParams,
+    guard: f64,
+    start: &[Term],
+) -> Result<Search, FitError> {
+    let c = problem.weights.len() as f64;
+    let total_weight: f64 = problem.grams.iter().map(|g| g.weight).sum();
+    let mut selected: Vec<Term> = start.to_vec();
     let (mut fits, mut current) = problem.try_score(&selected, guard)?;
-    let mut path = Vec::new();
+    let mut path: Vec<Step> = start
+        .iter()
+        .map(|&term| Step {
+            action: '+',
+            term,
+            validation_rmse: current,
+        })
+        .collect();
     // An addition lowers the validation error by `min_improvement` at least, but the removals
     // after it may each give back half of that, so the search could cycle: the path is capped.
     while selected.len() < params.max_terms && path.len() < MAX_STEPS_PER_TERM * params.max_terms {
@@ -436,29 +505,11 @@ pub fn select(
             });
         }
     }
-    selected.sort();
-    // Ridge chosen on the validation block.
-    let mut best_ridge = (0.0, fits.clone(), f64::INFINITY);
-    for &lambda in &params.ridge_grid {
-        if let Some((f, e)) = problem.score(&selected, lambda) {
-            if e < best_ridge.2 {
-                best_ridge = (lambda, f, e);
-            }
-        }
-    }
-    let (ridge, fits, validation_rmse) = if best_ridge.2.is_finite() {
-        best_ridge
-    } else {
-        (guard, problem.fit(&selected, guard)?, current)
-    };
-    Ok(Selection {
-        terms: selected,
+    Ok(Search {
+        selected,
         fits,
-        ridge,
-        validation_rmse,
+        current,
         path,
-        training_rows: train.len(),
-        validation_start: validation.start,
     })
 }
 
