@@ -9,6 +9,9 @@
 //! - dead time and time constant from the simulated unit-step response: the dead time is the
 //!   first time the response passes 2 % of its final value, the time constant the time from
 //!   there to 63.2 % (for a first-order-plus-dead-time process this gives θ and τ exactly);
+//! - the response's shape: how far it overshoots its final value, and how far it first moves the
+//!   other way (an inverse response). A time constant read off a response that overshoots or
+//!   turns back says little; the slowest pole's time constant is given beside it;
 //! - poles: roots of `z^na − a₁ z^(na−1) − … − a_na`; stable when all lie inside the unit circle.
 
 use nalgebra::DMatrix;
@@ -27,6 +30,12 @@ pub struct InputResponse {
     pub dead_time: Option<f64>,
     /// Time constant, seconds (None when the input has no effect).
     pub time_constant: Option<f64>,
+    /// How far the unit-step response rises above its final value, as a fraction of it (0 when
+    /// it never does; NaN when the input has no effect).
+    pub overshoot: f64,
+    /// How far the unit-step response first moves against its final value, as a fraction of
+    /// it: an inverse response (0 when it never does; NaN when the input has no effect).
+    pub undershoot: f64,
 }
 
 /// One regime's local model in readable form.
@@ -42,7 +51,9 @@ pub struct RegimeDynamics {
     pub inputs: Vec<InputResponse>,
     /// Magnitudes of the output-lag poles (empty for a static or FIR model).
     pub pole_magnitudes: Vec<f64>,
-    /// `−Ts / ln p` of the dominant real pole `0 < p < 1`, seconds (None without one).
+    /// `−Ts / ln |p|` of the pole of largest magnitude, the slowest-decaying mode (for a
+    /// complex pair, the decay of its envelope), seconds; None for a static or FIR model and
+    /// for an unstable one.
     pub pole_time_constant: Option<f64>,
     /// All poles inside the unit circle.
     pub stable: bool,
@@ -147,6 +158,77 @@ pub fn step_timing(b: &[(usize, f64)], a: &[f64]) -> Option<(f64, f64)> {
     Some((dead, (t63? - dead).max(0.0)))
 }
 
+/// (overshoot, undershoot) of the unit-step response of `y(k) = Σ a_i y(k−i) + Σ c u(k−lag)`,
+/// as fractions of its final value (NaN for no response or no steady state). The response is
+/// followed until it has stayed within 10⁻⁶ of the final value for as long as the longest lag,
+/// or for [`HORIZON`] samples.
+pub fn step_extremes(b: &[(usize, f64)], a: &[f64]) -> (f64, f64) {
+    let total: f64 = b.iter().map(|(_, c)| c).sum();
+    let feedback: f64 = a.iter().sum();
+    if total == 0.0 || (1.0 - feedback).abs() < 1e-12 {
+        return (f64::NAN, f64::NAN);
+    }
+    let fin = total / (1.0 - feedback);
+    let memory = b
+        .iter()
+        .map(|(lag, _)| *lag)
+        .max()
+        .unwrap_or(0)
+        .max(a.len())
+        + 1;
+    let (mut high, mut low) = (0.0_f64, 0.0_f64);
+    let mut y: Vec<f64> = Vec::with_capacity(HORIZON);
+    let mut settled = 0;
+    for k in 0..HORIZON {
+        let mut v: f64 = b.iter().filter(|(lag, _)| k >= *lag).map(|(_, c)| c).sum();
+        for (i, ai) in a.iter().enumerate() {
+            if k > i {
+                v += ai * y[k - i - 1];
+            }
+        }
+        y.push(v);
+        let frac = v / fin;
+        high = high.max(frac - 1.0);
+        low = low.max(-frac);
+        settled = if (frac - 1.0).abs() < 1e-6 {
+            settled + 1
+        } else {
+            0
+        };
+        if settled > memory {
+            break;
+        }
+    }
+    (high, low)
+}
+
+/// `−Ts / ln |p|` of the largest pole magnitude: the time constant of the slowest-decaying mode
+/// (it decays as |p|^k; for a complex pair, the envelope of its swing). None without poles and
+/// when a pole lies on or outside the unit circle.
+fn slowest_time_constant(magnitudes: &[f64], ts: f64) -> Option<f64> {
+    if magnitudes.iter().any(|m| !(*m < 1.0)) {
+        return None;
+    }
+    let largest = magnitudes.iter().copied().fold(0.0_f64, f64::max);
+    (largest > 0.0).then(|| -ts / largest.ln())
+}
+
+/// Overshoot or undershoot below this share of the final value is not worth a word.
+const SHAPE_NOTE: f64 = 0.05;
+
+/// "inverse response 12 %", "overshoots 23 %", both, or nothing: what a reader of a dead time
+/// and a time constant should know about the response they were read from.
+pub fn shape_note(r: &InputResponse) -> Option<String> {
+    let mut parts = Vec::new();
+    if r.undershoot >= SHAPE_NOTE {
+        parts.push(format!("inverse response {:.0} %", 100.0 * r.undershoot));
+    }
+    if r.overshoot >= SHAPE_NOTE {
+        parts.push(format!("overshoots {:.0} %", 100.0 * r.overshoot));
+    }
+    (!parts.is_empty()).then(|| parts.join(", "))
+}
+
 /// The local dynamics of every regime of a model.
 pub fn regime_dynamics(model: &ModelView<'_>) -> Vec<RegimeDynamics> {
     let n = model.n_inputs();
@@ -202,24 +284,20 @@ pub fn regime_dynamics(model: &ModelView<'_>) -> Vec<RegimeDynamics> {
                         f64::NAN
                     };
                     let timing = step_timing(&b_coef[j], &a_coef);
+                    let (overshoot, undershoot) = step_extremes(&b_coef[j], &a_coef);
                     InputResponse {
                         tag: model.input_tag(j).to_string(),
                         gain: model_gain * slope,
                         model_gain,
                         dead_time: timing.map(|(d, _)| d * ts),
                         time_constant: timing.map(|(_, t)| t * ts),
+                        overshoot,
+                        undershoot,
                     }
                 })
                 .collect();
             let roots = poles(&a_coef);
             let magnitudes: Vec<f64> = roots.iter().map(|(re, im)| re.hypot(*im)).collect();
-            let dominant_real = roots
-                .iter()
-                .filter(|(re, im)| im.abs() < 1e-12 && *re > 0.0 && *re < 1.0)
-                .map(|(re, _)| *re)
-                .fold(None, |best: Option<f64>, p| {
-                    Some(best.map_or(p, |b| b.max(p)))
-                });
             RegimeDynamics {
                 regime: i,
                 operating_point: (0..n)
@@ -228,8 +306,8 @@ pub fn regime_dynamics(model: &ModelView<'_>) -> Vec<RegimeDynamics> {
                 target: transform.inverse(z_ss),
                 inputs,
                 stable: magnitudes.iter().all(|m| *m < 1.0),
+                pole_time_constant: slowest_time_constant(&magnitudes, ts),
                 pole_magnitudes: magnitudes,
-                pole_time_constant: dominant_real.map(|p| -ts / p.ln()),
             }
         })
         .collect()
@@ -238,6 +316,54 @@ pub fn regime_dynamics(model: &ModelView<'_>) -> Vec<RegimeDynamics> {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// A complex pair r·e^{±jω} decays as r^k: its time constant is −Ts / ln r (the envelope of
+    /// the sampled oscillation, from z = e^{sT}); the slowest of several modes counts.
+    #[test]
+    fn slowest_mode_time_constant() {
+        let roots = poles(&[2.0 * 0.9 * 0.3_f64.cos(), -0.81]);
+        let magnitudes: Vec<f64> = roots.iter().map(|(re, im)| re.hypot(*im)).collect();
+        let tau = slowest_time_constant(&magnitudes, 60.0).expect("stable");
+        assert!((tau - (-60.0 / 0.9_f64.ln())).abs() < 1e-6, "{tau}");
+        assert_eq!(
+            slowest_time_constant(&[0.5, 0.9, 0.2], 1.0),
+            Some(-1.0 / 0.9_f64.ln())
+        );
+        assert_eq!(slowest_time_constant(&[0.5, 1.01], 1.0), None);
+        assert_eq!(slowest_time_constant(&[], 1.0), None);
+    }
+
+    /// An underdamped second-order process ωn²/(s² + 2ζωn s + ωn²) overshoots by
+    /// exp(−ζπ/√(1−ζ²)) (16.3 % at ζ = 0.5; Ogata, *Modern Control Engineering*, transient
+    /// response specifications). Its ZOH discretization is step-invariant, so its sampled step
+    /// response lies on the continuous one: the model below is built from the denominator's
+    /// poles e^{(−σ ± jω_d)T} and the continuous response at T and 2T. A first-order response
+    /// neither overshoots nor turns back; a two-tap FIR shows exactly its taps.
+    #[test]
+    fn overshoot_and_inverse_response() {
+        let (zeta, wn, t) = (0.5_f64, 1.0_f64, 0.01_f64);
+        let sigma = zeta * wn;
+        let wd = wn * (1.0 - zeta * zeta).sqrt();
+        let step = |time: f64| {
+            1.0 - (-sigma * time).exp() * ((wd * time).cos() + sigma / wd * (wd * time).sin())
+        };
+        let a1 = 2.0 * (-sigma * t).exp() * (wd * t).cos();
+        let a2 = -(-2.0 * sigma * t).exp();
+        let b1 = step(t);
+        let b2 = step(2.0 * t) - a1 * step(t) - b1;
+        let (over, under) = step_extremes(&[(1, b1), (2, b2)], &[a1, a2]);
+        let expected = (-zeta * std::f64::consts::PI / (1.0 - zeta * zeta).sqrt()).exp();
+        assert!((over - expected).abs() < 1e-4, "{over} vs {expected}");
+        assert_eq!(under, 0.0);
+
+        let a = (-60.0_f64 / 300.0).exp();
+        let (over, under) = step_extremes(&[(3, 2.0 * (1.0 - a))], &[a]);
+        assert!(over < 1e-12 && under == 0.0, "{over} {under}");
+        assert_eq!(step_extremes(&[(1, 1.5), (2, -0.5)], &[]), (0.5, 0.0));
+        assert_eq!(step_extremes(&[(1, -0.5), (2, 1.5)], &[]), (0.0, 0.5));
+        let (none, _) = step_extremes(&[], &[0.5]);
+        assert!(none.is_nan());
+    }
 
     /// First order plus dead time sampled with a zero-order hold (Seborg, Edgar & Mellichamp,
     /// Process Dynamics and Control, discrete-time models): y(k) = a y(k−1) + b u(k−1−N) with

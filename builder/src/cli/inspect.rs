@@ -3,7 +3,7 @@
 use std::path::Path;
 
 use anyhow::Context;
-use regimix_builder::analysis::{regime_dynamics, RegimeDynamics};
+use regimix_builder::analysis::{regime_dynamics, shape_note, RegimeDynamics};
 use regimix_builder::prepare::audit::tag_column_width;
 use regimix_format::transform::Transform;
 use regimix_format::{ModelView, Source};
@@ -207,8 +207,11 @@ pub fn run(path: &Path, json: bool) -> anyhow::Result<()> {
             .map(|(t, v)| format!("{t} {v:.4}"))
             .collect();
         println!("  {}", point.join(", "));
+        let slowest = r.pole_time_constant.map_or(String::new(), |t| {
+            format!("; slowest pole: time constant {}", seconds(Some(t)))
+        });
         println!(
-            "  {}",
+            "  {}{slowest}",
             if r.stable {
                 "stable"
             } else {
@@ -231,6 +234,9 @@ pub fn run(path: &Path, json: bool) -> anyhow::Result<()> {
                 seconds(i.dead_time),
                 seconds(i.time_constant)
             );
+            if let Some(note) = shape_note(i) {
+                println!("  {:<w$} step response {note}", "");
+            }
         }
     }
     super::print_out(&out)

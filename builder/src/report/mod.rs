@@ -238,17 +238,21 @@ pub fn report_html(b: &Built, config: &Config, s: &Summary) -> String {
             h.push_str(&point.join(", "));
             let _ = write!(
                 h,
-                ". {}</p>",
+                ". {}{}</p>",
                 if d.stable {
                     "Stable."
                 } else {
                     "<b>Unstable</b>: a pole lies on or outside the unit circle."
-                }
+                },
+                d.pole_time_constant.map_or(String::new(), |t| format!(
+                    " Slowest pole: time constant {:.1} min.",
+                    t / 60.0
+                ))
             );
             let dof = (b.training_rows as f64 / s.regime_count as f64 - (b.terms.len() + 1) as f64)
                 .max(1.0);
             let g = gains(&b.terms, &b.fits[i], dof);
-            h.push_str("<table><tr><th>input</th><th>gain</th><th>95 % interval</th><th>dead time</th><th>time constant</th></tr>");
+            h.push_str("<table><tr><th>input</th><th>gain</th><th>95 % interval</th><th>dead time</th><th>time constant</th><th>step response</th></tr>");
             for r in &d.inputs {
                 let Some(j) = tags.iter().position(|t| t == &r.tag) else {
                     continue;
@@ -266,7 +270,7 @@ pub fn report_html(b: &Built, config: &Config, s: &Summary) -> String {
                 };
                 let _ = write!(
                     h,
-                    "<tr><td>{}</td><td>{} {}/{}</td><td>{} … {}</td><td>{}</td><td>{}</td></tr>",
+                    "<tr><td>{}</td><td>{} {}/{}</td><td>{} … {}</td><td>{}</td><td>{}</td><td>{}</td></tr>",
                     esc(&r.tag),
                     num(r.gain),
                     esc(unit),
@@ -274,12 +278,13 @@ pub fn report_html(b: &Built, config: &Config, s: &Summary) -> String {
                     num(gi.low * slope),
                     num(gi.high * slope),
                     fmt_t(r.dead_time),
-                    fmt_t(r.time_constant)
+                    fmt_t(r.time_constant),
+                    crate::analysis::shape_note(r).unwrap_or_else(|| "—".into())
                 );
             }
             h.push_str("</table>");
         }
-        h.push_str("<p>Gains are local derivatives at each regime's operating point, through the target transform; intervals from the parameter covariance (delta method, t-distribution). Dead time and time constant are read off each regime's simulated unit-step response.</p>");
+        h.push_str("<p>Gains are local derivatives at each regime's operating point, through the target transform; intervals from the parameter covariance (delta method, t-distribution). Dead time and time constant are read off each regime's simulated unit-step response (2 % and 63.2 % of the final value); where that response overshoots or first moves the other way, the table says by how much, and the slowest pole's time constant is the better guide to how fast the regime settles.</p>");
         // How each gain changes with the operating level: the check a modeller makes against the
         // process physics (e.g. a temperature-to-impurity gain growing with the impurity level).
         let mut order: Vec<usize> = (0..dynamics.len()).collect();
