@@ -789,3 +789,51 @@ fn more_inputs_than_the_regimes_take_are_narrowed_down() {
         "{scheduled}"
     );
 }
+
+/// Lab results in a column of the data files, once as blank rows between results and once held
+/// on every row until the next result (as a historian exports a lab value stored as a tag): the
+/// same results at the same times, so the same model byte for byte; `check` says how many rows
+/// were repeats.
+#[test]
+fn lab_results_held_on_every_row_give_the_sparse_model() {
+    let config = SMALL.replace(
+        "target: { tag: Y, source: analyzer }",
+        "target: { tag: Y, source: lab, lab: {} }",
+    );
+    let build = |held: bool| {
+        let dir = tempfile::tempdir().expect("tempdir");
+        let last = std::cell::RefCell::new(String::new());
+        small_plant(dir.path(), |k, row| {
+            if k % 10 == 0 {
+                *last.borrow_mut() = row[3].clone();
+            } else {
+                row[3] = if held {
+                    last.borrow().clone()
+                } else {
+                    String::new()
+                };
+            }
+        });
+        write(dir.path(), "c.yaml", &config);
+        let r = regimix(dir.path(), &["build", "c.yaml", "--out", "o", "--quiet"]);
+        assert!(r.status.success(), "{}", String::from_utf8_lossy(&r.stderr));
+        let check = regimix(dir.path(), &["check", "c.yaml", "--json"]);
+        let json: serde_json::Value = serde_json::from_slice(&check.stdout).expect("check json");
+        let model = std::fs::read(dir.path().join("o/model.rgmx")).expect("model");
+        (model, json)
+    };
+    let (sparse, sparse_check) = build(false);
+    let (held, held_check) = build(true);
+    assert!(sparse == held, "the held export gives another model");
+    assert_eq!(held_check["target"]["usable_samples"], 300);
+    assert_eq!(sparse_check["target"]["usable_samples"], 300);
+    assert_eq!(held_check["target"]["lab"]["held_repeats"], 2700);
+    assert_eq!(sparse_check["target"]["lab"]["held_repeats"], 0);
+    let warnings = held_check["warnings"].to_string();
+    assert!(
+        warnings.contains(
+            "repeat each lab result on the rows after it until the next: 2700 repeats left out"
+        ),
+        "{warnings}"
+    );
+}

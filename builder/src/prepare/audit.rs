@@ -654,6 +654,12 @@ fn warnings(config: &Config, audit: &Audit, median: Option<i64>) -> Vec<String> 
                 counted(lab.outside_span as u64, "lab result", "lab results")
             ));
         }
+        if lab.held_repeats > 0 {
+            out.push(format!(
+                "the data files repeat each lab result on the rows after it until the next: {} left out, the first row of each run taken as the result (stamped when it appeared); a result equal to the one before it cannot be told from a repeat",
+                counted(lab.held_repeats as u64, "repeat", "repeats")
+            ));
+        }
         if lab.same_row > 0 {
             out.push(format!(
                 "{} on the same sample-time row as a later one; the later result was kept",

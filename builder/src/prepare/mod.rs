@@ -330,7 +330,7 @@ pub fn prepare(config: &Config) -> Result<Prepared, DataError> {
         let mut samples = if lab_in_data {
             let column =
                 std::mem::replace(&mut table.columns[p], RawColumn::empty(&target_spec.tag));
-            target::LabSamples::from_column(&table.times, column)
+            target::LabSamples::from_data_column(&table.times, column)
         } else {
             target::read_lab_files(lab_spec, &target_spec.tag)?
         };

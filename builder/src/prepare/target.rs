@@ -30,13 +30,32 @@ pub struct LabSamples {
     pub column: RawColumn,
     /// What was read from each lab file (none when the data files hold the lab values).
     pub files: Vec<FileRead>,
+    /// Rows of the data files left out as repeats of the result on the row before
+    /// ([`LabSamples::from_data_column`]).
+    pub held_repeats: usize,
 }
 
 impl LabSamples {
-    /// Keeps the non-empty cells of a (mostly empty) column from the data files.
+    /// Keeps the non-empty cells of a column, in order (a lab file's rows: every row is a
+    /// sample, even one equal to the row before).
     pub fn from_column(times: &[Micros], column: RawColumn) -> LabSamples {
+        Self::keep(times, column, &[])
+    }
+
+    /// Keeps the lab results of a column of the data files. Mostly empty, such a column holds
+    /// one result per non-empty cell; but a historian that stores the lab value as a tag often
+    /// exports it on every row, held until the next result. When runs of equal results on
+    /// adjacent rows are the rule ([`held_repeats`]), only the first row of each run is a result:
+    /// the time it appeared. A result equal to the one before it then reads as a repeat.
+    pub fn from_data_column(times: &[Micros], column: RawColumn) -> LabSamples {
+        let repeats = held_repeats(&column);
+        Self::keep(times, column, &repeats)
+    }
+
+    fn keep(times: &[Micros], column: RawColumn, repeats: &[bool]) -> LabSamples {
+        let repeated = |i: usize| repeats.get(i).copied().unwrap_or(false);
         let keep: Vec<usize> = (0..times.len())
-            .filter(|&i| column.kinds[i] != Observation::Empty)
+            .filter(|&i| column.kinds[i] != Observation::Empty && !repeated(i))
             .collect();
         LabSamples {
             times: keep.iter().map(|&i| times[i]).collect(),
@@ -47,8 +66,48 @@ impl LabSamples {
                 markers: column.markers,
             },
             files: Vec::new(),
+            held_repeats: repeats.iter().filter(|r| **r).count(),
         }
     }
+}
+
+/// Per row: does it repeat the result (a value or a below-limit result) of the row before it,
+/// in a column whose results are held over several rows? Held means that the median run of
+/// equal results on adjacent rows is at least 2 rows; otherwise no row is a repeat (separate
+/// results that happen to be equal, in a column with blank rows between results).
+pub fn held_repeats(column: &RawColumn) -> Vec<bool> {
+    let n = column.kinds.len();
+    let result = |i: usize| {
+        matches!(
+            column.kinds[i],
+            Observation::Value | Observation::BelowLimit
+        )
+    };
+    let mut repeats = vec![false; n];
+    let mut runs: Vec<usize> = Vec::new();
+    for i in 0..n {
+        if !result(i) {
+            continue;
+        }
+        let same = i > 0
+            && result(i - 1)
+            && column.kinds[i] == column.kinds[i - 1]
+            && column.values[i].to_bits() == column.values[i - 1].to_bits();
+        if same {
+            repeats[i] = true;
+            if let Some(last) = runs.last_mut() {
+                *last += 1;
+            }
+        } else {
+            runs.push(1);
+        }
+    }
+    runs.sort_unstable();
+    let held = runs.get(runs.len() / 2).is_some_and(|&median| median >= 2);
+    if !held {
+        repeats.fill(false);
+    }
+    repeats
 }
 
 /// Reads the lab files named in the config.
@@ -102,6 +161,8 @@ pub struct LabPlacement {
     pub outside_span: usize,
     /// Values replaced by a later value on the same grid row (the later one is kept).
     pub same_row: usize,
+    /// Rows of the data files left out as repeats of a held result.
+    pub held_repeats: usize,
 }
 
 /// Puts each lab result on the grid row nearest its sample time (stamp minus `delay`).
@@ -110,7 +171,10 @@ pub fn place_lab(samples: &LabSamples, delay: i64, grid: &Grid) -> (GridSeries, 
         values: vec![f64::NAN; grid.len],
         status: vec![CellStatus::NoData; grid.len],
     };
-    let mut placement = LabPlacement::default();
+    let mut placement = LabPlacement {
+        held_repeats: samples.held_repeats,
+        ..LabPlacement::default()
+    };
     for (i, &stamp) in samples.times.iter().enumerate() {
         let Some(k) = grid.nearest_index(stamp - delay) else {
             placement.outside_span += 1;
@@ -188,6 +252,60 @@ mod tests {
         );
     }
 
+    /// A column from cells: a number is a value, `E` empty, `<x` below the limit x, text a
+    /// marker.
+    fn column(cells: &[&str]) -> RawColumn {
+        let mut c = RawColumn::empty("lab");
+        for cell in cells {
+            let (value, kind) = match *cell {
+                "E" => (f64::NAN, Observation::Empty),
+                text if text.starts_with('<') => {
+                    (text[1..].parse().expect("limit"), Observation::BelowLimit)
+                }
+                text => match text.parse::<f64>() {
+                    Ok(v) => (v, Observation::Value),
+                    Err(_) => (f64::NAN, Observation::Marker),
+                },
+            };
+            c.values.push(value);
+            c.kinds.push(kind);
+        }
+        c
+    }
+
+    #[test]
+    fn results_held_on_every_row_are_taken_once() {
+        let cells = [
+            "E", "1.5", "1.5", "1.5", "2", "2", "<0.1", "<0.1", "Bad", "2", "2", "2",
+        ];
+        let times: Vec<Micros> = (0..cells.len() as i64).collect();
+        let s = LabSamples::from_data_column(&times, column(&cells));
+        // Runs of 3, 2, 2 and 3 rows (the marker ends one): each taken at its first row.
+        assert_eq!(s.times, vec![1, 4, 6, 8, 9]);
+        assert_eq!(s.held_repeats, 6);
+        assert_eq!(s.column.values[..3], [1.5, 2.0, 0.1]);
+        assert_eq!(s.column.kinds[2], Observation::BelowLimit);
+        assert_eq!(s.column.kinds[3], Observation::Marker);
+        // The same cells from a lab file: every row is a sample.
+        assert_eq!(
+            LabSamples::from_column(&times, column(&cells)).times.len(),
+            11
+        );
+    }
+
+    #[test]
+    fn separate_results_that_happen_to_be_equal_are_kept() {
+        // Blank rows between results: equal neighbours among the results are no run.
+        let sparse = ["1.5", "E", "E", "1.5", "E", "2", "E", "E", "2"];
+        assert!(held_repeats(&column(&sparse)).iter().all(|r| !r));
+        // Results on adjacent rows, a few equal to the one before: runs are not the rule.
+        let dense = ["1", "2", "2", "3", "4", "5", "5", "6"];
+        assert!(held_repeats(&column(&dense)).iter().all(|r| !r));
+        let times: Vec<Micros> = (0..dense.len() as i64).collect();
+        let s = LabSamples::from_data_column(&times, column(&dense));
+        assert_eq!((s.times.len(), s.held_repeats), (8, 0));
+    }
+
     #[test]
     fn lab_results_go_to_their_sample_time() {
         let grid = Grid {
@@ -210,6 +328,7 @@ mod tests {
                 markers: Default::default(),
             },
             files: vec![],
+            held_repeats: 0,
         };
         // Stamped at result time, 2 min after sampling.
         let (s, p) = place_lab(&samples, 120, &grid);
@@ -221,7 +340,8 @@ mod tests {
             LabPlacement {
                 placed: 2,
                 outside_span: 1,
-                same_row: 1
+                same_row: 1,
+                held_repeats: 0
             }
         );
     }
