@@ -164,6 +164,7 @@ pub fn read_inputs(
         decimal_comma: form.decimal_comma,
         date_order: form.date_order,
         long_format: form.long_format.as_ref(),
+        any_order: false,
     };
     let table = read_file(path, &spec)?;
     // Only values: a below-limit reading (`<0.01`) holds its limit but is not a measurement.

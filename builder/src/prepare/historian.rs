@@ -254,6 +254,9 @@ pub struct ReadSpec<'a> {
     pub date_order: DateOrder,
     /// One row per tag and time: where the tag name and the value are.
     pub long_format: Option<&'a LongFormat>,
+    /// Rows may come in any time order (a lab file sorted by sample number): they are sorted
+    /// by time, keeping file order within a time. Otherwise time going backwards is an error.
+    pub any_order: bool,
 }
 
 /// A CSV reader error as a [`DataError`] naming the file (and the line where known).
@@ -551,7 +554,7 @@ fn read_one(
             data_rows += 1;
             continue;
         }
-        if let Some(prev) = previous {
+        if let (Some(prev), false) = (previous, spec.any_order) {
             if time < prev {
                 return Err(DataError::NonMonotonic {
                     path: path.to_path_buf(),
@@ -579,6 +582,9 @@ fn read_one(
         });
     }
     let rows = data_rows;
+    if spec.any_order && !times.is_sorted() {
+        (times, columns) = sorted_by_time(times, columns);
+    }
     let mut duplicate_rows = 0;
     if long.is_some() {
         absent = spec
@@ -613,6 +619,21 @@ fn read_one(
         delimiter,
     };
     Ok((table, header))
+}
+
+/// Rows put in time order, file order kept within a time.
+fn sorted_by_time(times: Vec<Micros>, columns: Vec<RawColumn>) -> (Vec<Micros>, Vec<RawColumn>) {
+    let mut order: Vec<usize> = (0..times.len()).collect();
+    order.sort_by_key(|&i| times[i]); // stable
+    let columns = columns
+        .into_iter()
+        .map(|c| RawColumn {
+            values: order.iter().map(|&i| c.values[i]).collect(),
+            kinds: order.iter().map(|&i| c.kinds[i]).collect(),
+            ..c
+        })
+        .collect();
+    (order.iter().map(|&i| times[i]).collect(), columns)
 }
 
 /// A long-format file's cells, read in file order into one column per tag (`by_tag[i]` is the
@@ -963,6 +984,7 @@ mod tests {
             decimal_comma: false,
             date_order: DateOrder::Ymd,
             long_format: None,
+            any_order: false,
         }
     }
 

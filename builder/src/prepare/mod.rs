@@ -249,6 +249,7 @@ pub fn prepare(config: &Config) -> Result<Prepared, DataError> {
         decimal_comma: config.decimal_comma,
         date_order: config.date_order,
         long_format: config.long_format.as_ref(),
+        any_order: false,
     };
     let mut table = historian::read_files(&config.files, &spec)?;
     let (first, last) = match (table.times.first(), table.times.last()) {

@@ -121,6 +121,7 @@ pub fn read_lab_files(lab: &LabSpec, tag: &str) -> Result<LabSamples, DataError>
         decimal_comma: lab.decimal_comma,
         date_order: lab.date_order,
         long_format: lab.long_format.as_ref(),
+        any_order: true,
     };
     let table = historian::read_files(&lab.files, &spec).map_err(|e| e.in_section("target.lab"))?;
     let files = table.files;
@@ -344,6 +345,43 @@ mod tests {
                 held_repeats: 0
             }
         );
+    }
+
+    /// A lab system's export sorted by sample number is not in time order: its rows are put in
+    /// time order (two samples at one time keep their file order), where a data file's rows
+    /// going backwards are an error.
+    #[test]
+    fn lab_files_may_come_in_any_order() {
+        let dir = tempfile::tempdir().expect("tempdir");
+        let path = dir.path().join("lab.csv");
+        std::fs::write(
+            &path,
+            "drawn,XA-1\n2026-03-02 10:00,0.3\n2026-03-02 08:00,0.1\n\
+             2026-03-02 09:00,0.2\n2026-03-02 08:00,0.15\n",
+        )
+        .expect("write");
+        let lab = LabSpec {
+            files: vec![path],
+            timestamp: TimestampColumns::One("drawn".into()),
+            delimiter: b',',
+            naive_offset_minutes: 0,
+            decimal_comma: false,
+            date_order: crate::timestamp::DateOrder::Ymd,
+            long_format: None,
+            delay: crate::duration::Span::from_secs(0),
+            stamped_at: crate::config::LabStamp::Sample,
+            below_limit: BelowLimit::Skip,
+        };
+        let samples = read_lab_files(&lab, "XA-1").expect("read");
+        let hour = 3_600_000_000;
+        let eight = samples.times[0];
+        assert_eq!(
+            samples.times,
+            vec![eight, eight + hour, eight + 2 * hour],
+            "the two 08:00 samples are one row"
+        );
+        // The later of the two 08:00 rows in the file wins, as for duplicates in order.
+        assert_eq!(samples.column.values, vec![0.15, 0.2, 0.3]);
     }
 
     #[test]
