@@ -4,8 +4,10 @@
 //! numeric cell becomes a value; an empty cell means "no observation at this time" (tags logged at
 //! different moments leave blanks in a wide export); any other text (`Bad`, `I/O Timeout`,
 //! `Shutdown`, `NaN`) is a quality marker: an observation known to be bad, counted per tag and per
-//! distinct text, except `<` and a positive number (`<0.01`), a result below a detection limit. Timestamps must not go backwards inside one file. Several files are merged by
-//! time; for duplicated timestamps the rule of [`merge`] applies.
+//! distinct text, except `<` and a positive number (`<0.01`), a result below a detection limit.
+//! Timestamps must not go backwards inside one file, unless the spec allows any order (lab
+//! files), when the rows are sorted by time. Several files are merged by time; for duplicated
+//! timestamps the rule of [`merge`] applies.
 
 use std::borrow::Cow;
 use std::collections::BTreeMap;
