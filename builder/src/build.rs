@@ -307,7 +307,9 @@ pub fn build(config: &Config, progress: &dyn Fn(&str)) -> Result<Built, BuildErr
         selection,
         train_rows,
         clustering_rows,
+        note,
     } = scheduled;
+    notes.extend(note);
     let vars = &vars;
     let c = partition.count();
     let terms = selection.terms.clone();
@@ -576,6 +578,8 @@ struct Scheduled {
     selection: Selection,
     train_rows: Vec<usize>,
     clustering_rows: usize,
+    /// Why fewer regimes than the validity rule chose were used, if they were.
+    note: Option<String>,
 }
 
 /// Clusters the training rows on `vars` (and the target, in product space), evaluates every
@@ -592,7 +596,6 @@ fn schedule(
 ) -> Result<Scheduled, BuildError> {
     let m = &config.modelling;
     let inputs = regressors.inputs;
-    let n = target_model.len();
     // Regimes on the scheduling variables (and the target, in product space), training rows only.
     let rows: Vec<usize> = (0..train_end)
         .filter(|&k| {
@@ -621,12 +624,15 @@ fn schedule(
     };
     params.restarts = m.restarts;
     params.seed = m.seed;
-    let (partition, validity) = match m.count {
+    // The partitions to try, best first: the fixed count; or the count the validity rule
+    // chooses, then the smaller ones, should a regime hold too few target samples for its
+    // parameters (lab samples are sparse next to the rows the regimes are found on).
+    let (candidates, validity, chosen) = match m.count {
         RegimeCount::Fixed(c) => {
             params.count = c;
             let part = cluster(&data, &params)?;
             let v = measures(&data, &part)?;
-            (part, vec![v])
+            (vec![part], vec![v], c)
         }
         RegimeCount::Auto => {
             // A regime needs target samples of its own: cap the count at about 40 per regime
@@ -644,18 +650,81 @@ fn schedule(
             let table = sweep(&data, m.count_range.0..=high, &params)?;
             let validity: Vec<Validity> = table.iter().map(|(_, v)| v.clone()).collect();
             let chosen = choose_count(&validity).unwrap_or(m.count_range.0);
-            let part = table
+            let mut parts: Vec<Partition> = table
                 .into_iter()
-                .find(|(p, _)| p.count() == chosen)
                 .map(|(p, _)| p)
-                .ok_or(RegimeError::TooFewRegimes(chosen))?;
-            (part, validity)
+                .filter(|p| p.count() <= chosen)
+                .collect();
+            parts.sort_by_key(|p| std::cmp::Reverse(p.count()));
+            if parts.first().is_none_or(|p| p.count() != chosen) {
+                return Err(RegimeError::TooFewRegimes(chosen).into());
+            }
+            (parts, validity, chosen)
         }
     };
+    let last = candidates.len() - 1;
+    for (attempt, partition) in candidates.into_iter().enumerate() {
+        match fit_regimes(
+            config,
+            structure,
+            regressors,
+            target_model,
+            train_end,
+            vars,
+            (&data, &scaling, rows.len()),
+            partition,
+            progress,
+        ) {
+            Err(BuildError::RegimeTooThin {
+                regime,
+                count,
+                samples,
+                ..
+            }) if attempt < last => progress(&format!(
+                "regime {regime} of {count} has only {samples:.0} effective training samples: trying {} regimes",
+                count - 1
+            )),
+            Ok(mut scheduled) => {
+                let c = scheduled.partition.count();
+                if c < chosen {
+                    scheduled.note = Some(format!(
+                        "the validity rule chose {chosen} regimes, but with more than {c} a regime had too few target samples for its parameters: {c} regimes used"
+                    ));
+                }
+                scheduled.validity = validity;
+                return Ok(scheduled);
+            }
+            Err(e) => return Err(e),
+        }
+    }
+    Err(RegimeError::TooFewRegimes(chosen).into())
+}
+
+/// Effective training samples (Σ μ^m over the rows with a target) a regime needs per parameter
+/// of its local model (rule of thumb, common practice).
+const SAMPLES_PER_PARAMETER: usize = 5;
+
+/// Memberships of every row in `partition`'s regimes, the structure selected with them, and the
+/// check that every regime has data enough for its parameters.
+#[allow(clippy::too_many_arguments)]
+fn fit_regimes(
+    config: &Config,
+    structure: &StructureParams,
+    regressors: Regressors<'_>,
+    target_model: &[f64],
+    train_end: usize,
+    vars: &[usize],
+    (data, scaling, clustering_rows): (&Columns, &Scaling, usize),
+    partition: Partition,
+    progress: &dyn Fn(&str),
+) -> Result<Scheduled, BuildError> {
+    let m = &config.modelling;
+    let inputs = regressors.inputs;
+    let n = target_model.len();
     let c = partition.count();
     let antecedent = Antecedent::project(
         &partition,
-        &data,
+        data,
         &(0..vars.len()).collect::<Vec<_>>(),
         None,
         m.domain_quantile,
@@ -682,6 +751,23 @@ fn schedule(
         }
     }
 
+    // Before the search: every regime needs target samples enough for an offset and one
+    // regressor (lab samples may miss a regime the inputs visit).
+    let fitted: Vec<usize> = (0..train_end)
+        .filter(|&k| selection_target[k].is_finite())
+        .collect();
+    for (i, w) in weights.iter().enumerate() {
+        let samples: f64 = fitted.iter().map(|&k| w[k].powf(m.fuzziness)).sum();
+        if samples < (SAMPLES_PER_PARAMETER * 2) as f64 {
+            return Err(BuildError::RegimeTooThin {
+                regime: i + 1,
+                count: c,
+                samples,
+                parameters: 2,
+                needed: SAMPLES_PER_PARAMETER * 2,
+            });
+        }
+    }
     progress("selecting lags and dead times");
     let selection = select(structure, &weights, regressors, &selection_target)?;
     let terms = selection.terms.clone();
@@ -695,7 +781,7 @@ fn schedule(
     }
     // Every regime needs enough data of its own for its parameters.
     let parameters = terms.len() + 1;
-    let needed = 5 * parameters; // rule of thumb: at least five samples per parameter
+    let needed = SAMPLES_PER_PARAMETER * parameters;
     for (i, w) in weights.iter().enumerate() {
         let samples: f64 = train_rows.iter().map(|&k| w[k].powf(m.fuzziness)).sum();
         if samples < needed as f64 {
@@ -710,15 +796,16 @@ fn schedule(
     }
     Ok(Scheduled {
         vars: vars.to_vec(),
-        scaling,
+        scaling: scaling.clone(),
         partition,
-        validity,
+        validity: Vec::new(),
         antecedent,
         weights,
         selection_target,
         selection,
         train_rows,
-        clustering_rows: rows.len(),
+        clustering_rows,
+        note: None,
     })
 }
 

@@ -472,7 +472,7 @@ fn bad_input_gets_one_message_and_leaves_no_files() {
                 }
             }),
             SMALL.to_string(),
-            "fewer effective samples",
+            "effective training samples",
         ),
         (
             "more regimes than the data supports",
@@ -496,7 +496,7 @@ fn bad_input_gets_one_message_and_leaves_no_files() {
                 }
             }),
             SMALL.to_string(),
-            "fewer effective samples",
+            "effective training samples",
         ),
     ];
     for (name, edit, config, needle) in cases {
@@ -836,4 +836,58 @@ fn lab_results_held_on_every_row_give_the_sparse_model() {
         ),
         "{warnings}"
     );
+}
+
+/// Three operating levels of X1, but lab samples only at two of them: the validity rule finds
+/// three regimes, one of which has no target sample to fit. The build steps down to the count
+/// below and says so. With three regimes fixed in the config, the build fails naming the thin
+/// regime.
+#[test]
+fn a_regime_without_lab_samples_steps_the_count_down() {
+    let dir = tempfile::tempdir().expect("tempdir");
+    let mut rng = Lcg(41);
+    let mut csv = String::from("time,X1,X2,Y\n");
+    for k in 0..6000 {
+        let level = [10.0, 50.0, 90.0][(k / 500) % 3];
+        let x1 = level + 2.0 * rng.next();
+        let y = 0.001 * x1 * x1 + 0.05 * rng.next();
+        let lab = if k % 10 == 0 && level < 90.0 {
+            format!("{y:.4}")
+        } else {
+            String::new()
+        };
+        csv.push_str(&format!(
+            "{},{x1:.3},{:.3},{lab}\n",
+            stamp(k),
+            20.0 + rng.next()
+        ));
+    }
+    write(dir.path(), "plant.csv", &csv);
+    let config = SMALL
+        .replace(
+            "target: { tag: Y, source: analyzer }",
+            "target: { tag: Y, source: lab, lab: {} }",
+        )
+        .replace("regimes: { count: 2 }", "regimes: { variables: [X1] }");
+    write(dir.path(), "c.yaml", &config);
+    let r = regimix(dir.path(), &["build", "c.yaml", "--out", "o"]);
+    assert!(r.status.success(), "{}", String::from_utf8_lossy(&r.stderr));
+    let stdout = String::from_utf8_lossy(&r.stdout);
+    assert!(
+        stdout.contains("the validity rule chose 3 regimes, but with more than 2 a regime had too few target samples for its parameters: 2 regimes used"),
+        "{stdout}"
+    );
+    let summary: serde_json::Value =
+        serde_json::from_slice(&std::fs::read(dir.path().join("o/summary.json")).expect("summary"))
+            .expect("json");
+    assert_eq!(summary["regime_count"], 2);
+    // Three regimes asked for: the error names the thin regime, as before.
+    write(
+        dir.path(),
+        "c3.yaml",
+        &config.replace("variables: [X1]", "variables: [X1], count: 3"),
+    );
+    let r = regimix(dir.path(), &["build", "c3.yaml", "--out", "o3", "--quiet"]);
+    assert_eq!(r.status.code(), Some(2));
+    assert_clean_failure(&r, "effective training samples");
 }
