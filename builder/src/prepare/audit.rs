@@ -675,6 +675,18 @@ pub fn tag_column_width<'a>(tags: impl Iterator<Item = &'a str>) -> usize {
     tags.map(|t| t.chars().count()).max().unwrap_or(0).max(16)
 }
 
+/// Skipped rows' first cells, quoted and comma-separated (`(blank)` for an empty one).
+fn quoted_rows(rows: &[String]) -> String {
+    let quoted: Vec<String> = rows
+        .iter()
+        .map(|l| match l.as_str() {
+            "" => "(blank)".to_string(),
+            l => format!("`{l}`"),
+        })
+        .collect();
+    quoted.join(", ")
+}
+
 /// `n` and the noun in the number it takes: `1 cell`, `2 cells`.
 fn counted(n: u64, one: &str, many: &str) -> String {
     format!("{n} {}", if n == 1 { one } else { many })
@@ -737,19 +749,19 @@ impl fmt::Display for Audit {
         for file in &self.files {
             write!(f, "  {} ({} rows", file.path, file.rows)?;
             if !file.label_rows.is_empty() {
-                let labels: Vec<String> = file
-                    .label_rows
-                    .iter()
-                    .map(|l| match l.as_str() {
-                        "" => "(blank)".to_string(),
-                        l => format!("`{l}`"),
-                    })
-                    .collect();
                 write!(
                     f,
                     "; {} under the header skipped: {}",
                     counted(file.label_rows.len() as u64, "label row", "label rows"),
-                    labels.join(", ")
+                    quoted_rows(&file.label_rows)
+                )?;
+            }
+            if !file.footer_rows.is_empty() {
+                write!(
+                    f,
+                    "; {} after the data skipped: {}",
+                    counted(file.footer_rows.len() as u64, "row", "rows"),
+                    quoted_rows(&file.footer_rows)
                 )?;
             }
             if !file.absent.is_empty() {

@@ -228,6 +228,9 @@ pub struct FileRead {
     /// Timestamp cells of the label rows skipped under the header ([`MAX_LABEL_ROWS`]):
     /// `Description`, `Units`.
     pub label_rows: Vec<String>,
+    /// First cells of the rows after the data that are not data (a summary or "end of data"
+    /// line, as some exports write; at most [`MAX_LABEL_ROWS`]), skipped.
+    pub footer_rows: Vec<String>,
     /// Fields that were not UTF-8 and were read as Windows-1252 ([`windows_1252`]).
     pub windows_1252_fields: u64,
     /// Requested columns this file does not hold (others hold them; see [`read_files`]).
@@ -392,6 +395,36 @@ pub fn open_csv(path: &Path, delimiter: u8) -> Result<Opened, DataError> {
     })
 }
 
+/// Rows after the data that do not read as data: a summary or "end of data" line, recognised
+/// as a row whose time cell has no digit or a row of the wrong width with no timestamp in it.
+/// Such a row is held back; it is a footer row if no data row follows it (and at most
+/// [`MAX_LABEL_ROWS`] such rows end the file), else the reason it did not read is the error.
+#[derive(Default)]
+struct Footer {
+    rows: Vec<String>,
+    first_error: Option<DataError>,
+}
+
+impl Footer {
+    /// A row that did not read, for `error`; before any data row it is the error at once.
+    fn push(&mut self, error: DataError, text: &str, data_rows: usize) -> Result<(), DataError> {
+        if data_rows == 0 || self.rows.len() == MAX_LABEL_ROWS {
+            return Err(self.first_error.take().unwrap_or(error));
+        }
+        self.first_error.get_or_insert(error);
+        self.rows.push(text.to_string());
+        Ok(())
+    }
+
+    /// A data row was read: an earlier row that did not read is an error.
+    fn data_follows(&mut self) -> Result<(), DataError> {
+        match self.first_error.take() {
+            Some(error) => Err(error),
+            None => Ok(()),
+        }
+    }
+}
+
 /// Reads one file; with `every_column` false, a requested column the file lacks reads as empty
 /// cells and is listed in [`FileRead::absent`]. Returns the table and the header.
 fn read_one(
@@ -486,6 +519,7 @@ fn read_one(
     let mut labels = Vec::new();
     let mut previous: Option<Micros> = None;
     let mut previous_line = 1 + skipped;
+    let mut footer = Footer::default();
     while reader.read_byte_record(&mut record).map_err(csv_error)? {
         // The reader reports the first record after the header as on the header's line (it
         // takes the header's line end in with the next record): a record starts at least one
@@ -500,12 +534,20 @@ fn read_one(
             continue; // blank line
         }
         if record.len() != header.len() {
-            return Err(DataError::Ragged {
+            let error = DataError::Ragged {
                 path: path.to_path_buf(),
                 line,
                 expected: header.len(),
                 found: record.len(),
-            });
+            };
+            // A data row with a field too many or too few is an error; a line of text is not.
+            let data_like = (0..record.len())
+                .any(|i| parse_timestamp(&fields.get(&record, i), 0, spec.date_order).is_ok());
+            if data_like {
+                return Err(error);
+            }
+            footer.push(error, fields.get(&record, 0).trim(), data_rows)?;
+            continue;
         }
         // A split timestamp's date and time of day, joined by a space.
         let ts_text = match ts_index[..] {
@@ -522,14 +564,25 @@ fn read_one(
             labels.push(ts_text.trim().to_string());
             continue;
         }
-        let time = parse_timestamp(&ts_text, spec.naive_offset_minutes, spec.date_order).map_err(
-            |cause| DataError::Timestamp {
-                path: path.to_path_buf(),
-                line,
-                column: spec.timestamp.to_string(),
-                cause,
-            },
-        )?;
+        let time = match parse_timestamp(&ts_text, spec.naive_offset_minutes, spec.date_order) {
+            Ok(time) => time,
+            Err(cause) => {
+                let error = DataError::Timestamp {
+                    path: path.to_path_buf(),
+                    line,
+                    column: spec.timestamp.to_string(),
+                    cause,
+                };
+                // As for label rows: a footer row's time cell has no digit in it.
+                if ts_text.bytes().any(|b| b.is_ascii_digit()) {
+                    return Err(error);
+                }
+                footer.push(error, ts_text.trim(), data_rows)?;
+                continue;
+            }
+        };
+        // A row that reads as data: whatever did not read before it was no footer.
+        footer.data_follows()?;
         if let Some((tag_index, value_index, quality_index)) = long {
             // One tag's value per row; rows of tags not requested are passed over.
             let tag = fields.get(&record, tag_index);
@@ -609,6 +662,7 @@ fn read_one(
             path: path.display().to_string(),
             rows,
             label_rows: labels,
+            footer_rows: footer.rows,
             windows_1252_fields: fields.legacy,
             absent,
         }],
@@ -1148,13 +1202,43 @@ mod tests {
         let f = file_with(b"time,TI-1\nUnits,degC\n01.03.2026 00:00,1.5\n");
         let err = read_file(f.path(), &spec(&c)).expect_err("day-first date");
         assert!(err.to_string().contains(":3: column `time`"), "{err}");
-        // Labels only under the header: a text row after the data is an error.
-        let f = file_with(b"time,TI-1\n2026-03-01 00:00:00,1.5\nUnits,degC\n");
-        assert!(read_file(f.path(), &spec(&c)).is_err());
+        // Labels only under the header: a text row between data rows is an error.
+        let f =
+            file_with(b"time,TI-1\n2026-03-01 00:00:00,1.5\nUnits,degC\n2026-03-01 00:01:00,1.6\n");
+        let err = read_file(f.path(), &spec(&c)).expect_err("text between data rows");
+        assert!(err.to_string().contains(":3: column `time`"), "{err}");
         let many = format!("time,TI-1\n{}2026-03-01 00:00:00,1.5\n", "x,y\n".repeat(9));
         let f = file_with(many.as_bytes());
         let err = read_file(f.path(), &spec(&c)).expect_err("too many labels");
         assert!(err.to_string().contains(":10: column `time`"), "{err}");
+    }
+
+    /// Rows after the data that are not data (an "end of data" line, a row count in one
+    /// field) are skipped and listed; the same rows followed by data are the error they were,
+    /// at their own line; more than [`MAX_LABEL_ROWS`] of them are too.
+    #[test]
+    fn footer_rows_after_the_data_are_skipped() {
+        let c = cols(&["TI-1"]);
+        let f = file_with(
+            b"time,TI-1\n2026-03-01 00:00:00,1.5\n2026-03-01 00:01:00,1.6\nEnd of data,\n\nRows: 2\n",
+        );
+        let t = read_file(f.path(), &spec(&c)).expect("reads");
+        assert_eq!(t.columns[0].values, vec![1.5, 1.6]);
+        assert_eq!(t.files[0].rows, 2);
+        assert_eq!(t.files[0].footer_rows, vec!["End of data", "Rows: 2"]);
+
+        let f =
+            file_with(b"time,TI-1\n2026-03-01 00:00:00,1.5\nRows: 2\n2026-03-01 00:01:00,1.6\n");
+        let err = read_file(f.path(), &spec(&c)).expect_err("ragged row between data");
+        assert!(err.to_string().contains(":3:"), "{err}");
+
+        let many = format!(
+            "time,TI-1\n2026-03-01 00:00:00,1.5\n{}",
+            "note,x\n".repeat(MAX_LABEL_ROWS + 1)
+        );
+        let f = file_with(many.as_bytes());
+        let err = read_file(f.path(), &spec(&c)).expect_err("too many footer rows");
+        assert!(err.to_string().contains(":3: column `time`"), "{err}");
     }
 
     #[test]
@@ -1205,7 +1289,7 @@ mod tests {
                 "separated by `\\t`, so set `delimiter: \"\\t\"`",
             ),
             (
-                b"time,TI-1\n2026-03-01 00:00:00,1\nyesterday,2\n",
+                b"time,TI-1\n2026-03-01 00:00:00,1\nyesterday,2\n2026-03-01 00:02:00,3\n",
                 ":3: column `time`: `yesterday` is not a timestamp",
             ),
             (
@@ -1276,7 +1360,9 @@ mod tests {
         );
         let t = read_file(f.path(), &spec(&c)).expect("reads");
         assert_eq!(t.columns[0].values, vec![1.0, 2.0]);
-        let f = file_with(b"SEP=;\ntime;TI-1\n2026-03-01 00:00:00;1\nyesterday;2\n");
+        let f = file_with(
+            b"SEP=;\ntime;TI-1\n2026-03-01 00:00:00;1\nyesterday;2\n2026-03-01 00:02:00;3\n",
+        );
         let err = read_file(f.path(), &spec(&c))
             .expect_err("bad time")
             .to_string();
