@@ -231,10 +231,16 @@ pub fn build(config: &Config, progress: &dyn Fn(&str)) -> Result<Built, BuildErr
     }
 
     // Rows are fitted and scored at fresh readings only; a past output reads the target as
-    // measured (an analyzer's reading held until its next).
+    // measured (an analyzer's reading held until its next). The inputs are the runtime's: an
+    // invalid sample takes the last good value for up to the hold limit, so a scattered bad
+    // sample does not cost every row whose lags reach it.
     let fresh = ds.fresh_target_model();
     let target_model = &fresh;
-    let regressors = Regressors::new(&inputs, &ds.target_model);
+    let held: Vec<Vec<f64>> = inputs
+        .iter()
+        .map(|x| hold_last_good(x, usize::from(m.hold_limit)))
+        .collect();
+    let regressors = Regressors::new(&held, &ds.target_model);
     let mut notes = Vec::new();
     notes.extend(reading_note(ds.reading_cycle, target_model, config));
     let max = regimix_format::limits::MAX_ANTECEDENT;
@@ -700,6 +706,27 @@ fn schedule(
     Err(RegimeError::TooFewRegimes(chosen).into())
 }
 
+/// `series` with each invalid (NaN) sample replaced by the last valid one, for at most `hold`
+/// samples in a row: the runtime's substitution of an invalid input. Invalid samples before the
+/// first valid one, and from the `hold + 1`-th of a run on, stay NaN.
+pub fn hold_last_good(series: &[f64], hold: usize) -> Vec<f64> {
+    let mut out = series.to_vec();
+    let mut last = f64::NAN;
+    let mut age = 0;
+    for v in &mut out {
+        if v.is_finite() {
+            last = *v;
+            age = 0;
+        } else {
+            age += 1;
+            if age <= hold {
+                *v = last;
+            }
+        }
+    }
+    out
+}
+
 /// Effective training samples (Σ μ^m over the rows with a target) a regime needs per parameter
 /// of its local model (rule of thumb, common practice).
 const SAMPLES_PER_PARAMETER: usize = 5;
@@ -958,6 +985,21 @@ pub fn structure_notes(
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// The runtime's substitution: up to `hold` invalid samples in a row take the last valid
+    /// value; the rest of a longer run, and what comes before the first valid value, stay
+    /// invalid.
+    #[test]
+    fn invalid_samples_take_the_last_good_value_for_the_hold_limit() {
+        let nan = f64::NAN;
+        let held = hold_last_good(&[nan, 1.0, nan, 2.0, nan, nan, nan, 3.0], 2);
+        let expected = [nan, 1.0, 1.0, 2.0, 2.0, 2.0, nan, 3.0];
+        assert_eq!(held.len(), expected.len());
+        for (h, e) in held.iter().zip(&expected) {
+            assert!(h == e || (h.is_nan() && e.is_nan()), "{held:?}");
+        }
+        assert!(hold_last_good(&[1.0, nan], 0)[1].is_nan());
+    }
 
     #[test]
     fn raised_or_failed_shrinkage_gets_a_note() {

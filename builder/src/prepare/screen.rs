@@ -173,7 +173,10 @@ pub fn mark_spikes(series: &mut GridSeries, half: usize, threshold: f64, floor: 
 ///
 /// A value held over several cells (an analyzer between cycles, a historian's sample-and-hold)
 /// is one observation: the filter runs over runs of equal consecutive valid values, and a flagged
-/// run is removed whole. On data that changes every sample this is the plain Hampel filter.
+/// run is removed whole. Invalid cells (a `Bad` now and then) inside a run, with the same value
+/// on both sides, do not split it: split, a level held for many cells would count several times
+/// and crowd out the other levels from the window. On data that changes every sample this is the
+/// plain Hampel filter.
 pub fn mark_spikes_with_floor(
     series: &mut GridSeries,
     half: usize,
@@ -194,8 +197,20 @@ pub fn mark_spikes_with_floor(
         }
         let start = k;
         let value = series.values[k];
-        while k < n && series.status[k] == CellStatus::Valid && series.values[k] == value {
-            k += 1;
+        loop {
+            while k < n && series.status[k] == CellStatus::Valid && series.values[k] == value {
+                k += 1;
+            }
+            // Invalid cells, then the same value again: the run goes on past them.
+            let mut next = k;
+            while next < n && series.status[next] != CellStatus::Valid {
+                next += 1;
+            }
+            if next > k && next < n && series.values[next] == value {
+                k = next;
+            } else {
+                break;
+            }
         }
         runs.push((start, k));
         observations.push(value);
@@ -213,10 +228,12 @@ pub fn mark_spikes_with_floor(
         let scale = scales[r].max(floor(medians[r]));
         if scale > 0.0 && (x - medians[r]).abs() > threshold * scale {
             for cell in start..end {
-                series.status[cell] = CellStatus::Spike;
-                series.values[cell] = f64::NAN;
+                if series.status[cell] == CellStatus::Valid {
+                    series.status[cell] = CellStatus::Spike;
+                    series.values[cell] = f64::NAN;
+                    count += 1;
+                }
             }
-            count += end - start;
         }
     }
     count
@@ -336,6 +353,36 @@ mod tests {
         assert_eq!(mark_spikes(&mut s, 3, 5.0, 0.0), 5);
         assert!(s.status[25..30].iter().all(|c| *c == CellStatus::Spike));
         assert_eq!(s.status[24], CellStatus::Valid);
+    }
+
+    /// Levels held for 12 cells with an invalid cell inside every level: each level is still
+    /// one observation (the window of 7 sees 7 levels and flags the one far level), and the
+    /// invalid cells stay as they were.
+    #[test]
+    fn an_invalid_cell_inside_a_held_level_does_not_split_it() {
+        let levels = [1.0, 1.02, 0.98, 1.01, 0.99, 5.0, 1.0, 1.03, 0.97, 1.0, 1.01];
+        let values: Vec<f64> = levels.iter().flat_map(|&r| [r; 12]).collect();
+        let mut s = series(&values);
+        for level in 0..levels.len() {
+            s.status[12 * level + 5] = CellStatus::Bad;
+            s.values[12 * level + 5] = f64::NAN;
+        }
+        let (mut whole, mut split) = (s.clone(), s.clone());
+        assert_eq!(mark_spikes(&mut whole, 3, 5.0, 0.0), 11);
+        assert!((60..72).all(|k| whole.status[k]
+            == if k == 65 {
+                CellStatus::Bad
+            } else {
+                CellStatus::Spike
+            }));
+        assert_eq!(whole.status[59], CellStatus::Valid);
+        // Split at every invalid cell, a window of 7 observations would hold about three
+        // levels, each counted two or three times: the far level would stand out less.
+        for level in 0..levels.len() {
+            split.values[12 * level + 6] += 1e-9; // the value after the gap differs slightly
+        }
+        let flagged = mark_spikes(&mut split, 3, 5.0, 0.0);
+        assert!(flagged < 11, "{flagged}");
     }
 
     #[test]
