@@ -124,6 +124,14 @@ pub enum DataError {
         /// The error as the reader gave it.
         inner: Box<DataError>,
     },
+    /// Spreadsheet serial dates read as epoch seconds: the whole export within seconds of 1970.
+    #[error("the timestamps run from {first} to {last}: they look like spreadsheet serial dates (days since 1899-12-30, such as 46082.5) read as seconds since 1970; export the timestamps as dates")]
+    SerialDates {
+        /// First time as read.
+        first: String,
+        /// Last time as read.
+        last: String,
+    },
     /// After resampling, nothing is left to work with.
     #[error("the data span less than two sample-times ({detail}); export a longer period")]
     TooShort {

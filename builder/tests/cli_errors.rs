@@ -61,6 +61,11 @@ fn each_bad_file_gets_one_message_naming_the_place() {
             b"time,X,Y\n2026-03-02 00:00:00,1,2\n",
             "the data span less than two sample-times",
         ),
+        (
+            // 2026-03-02 00:00 and 00:01 as spreadsheet serial dates.
+            b"time,X,Y\n46083,1,2\n46083.000694444,1,2\n",
+            "the timestamps run from 1970-01-01T12:48:03Z to 1970-01-01T12:48:03.000694Z: they look like spreadsheet serial dates",
+        ),
     ];
     for (data, needle) in cases {
         let (dir, out) = run_with_data(data);

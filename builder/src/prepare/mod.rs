@@ -261,6 +261,12 @@ pub fn prepare(config: &Config) -> Result<Prepared, DataError> {
         }
     };
     let grid = Grid::spanning(first, last, config.sample_time.micros());
+    if grid.len < 2 && looks_like_serial_dates(first, last) {
+        return Err(DataError::SerialDates {
+            first: crate::timestamp::Rfc3339(first).to_string(),
+            last: crate::timestamp::Rfc3339(last).to_string(),
+        });
+    }
     if grid.len < 2 {
         return Err(DataError::TooShort {
             detail: format!(
@@ -376,9 +382,30 @@ pub fn prepare(config: &Config) -> Result<Prepared, DataError> {
     Ok(Prepared { dataset, audit })
 }
 
+/// Times that lie within a day of each other between 1970-01-01 05:33 and 22:13 are spreadsheet
+/// serial dates (days since 1899-12-30: 20,000 is 1954, 80,000 is 2119) read as epoch seconds.
+fn looks_like_serial_dates(first: Micros, last: Micros) -> bool {
+    const SECOND: i64 = 1_000_000;
+    (20_000 * SECOND..=80_000 * SECOND).contains(&first) && last - first < 86_400 * SECOND
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// 46082.5 is 2026-03-01 12:00 as a spreadsheet serial date (days since 1899-12-30;
+    /// Python: `datetime(1899, 12, 30) + timedelta(days=46082.5)`).
+    #[test]
+    fn spreadsheet_serial_dates_are_recognised() {
+        let s = 1_000_000;
+        assert!(looks_like_serial_dates(46_082 * s, 46_082 * s + 2 * s));
+        // A simulation's counter of seconds from 0, and real epoch times, are not.
+        assert!(!looks_like_serial_dates(0, 3_600 * s));
+        assert!(!looks_like_serial_dates(
+            1_772_323_200 * s,
+            1_772_409_600 * s
+        ));
+    }
 
     fn dataset(target: &[f64], reading_cycle: usize) -> Dataset {
         let n = target.len();
