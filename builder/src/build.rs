@@ -269,15 +269,15 @@ pub fn build(config: &Config, progress: &dyn Fn(&str)) -> Result<Built, BuildErr
         m.variables.clone()
     };
     progress("clustering operating regimes");
-    let mut scheduled = schedule(
+    let fitting = Fitting {
         config,
-        &structure,
+        structure: &structure,
         regressors,
         target_model,
         train_end,
-        &first,
         progress,
-    )?;
+    };
+    let mut scheduled = schedule(&fitting, &first)?;
     if !m.variables_given {
         // By default the regimes are first found on every input; the inputs the selected
         // structure uses are then tried as the scheduling variables, kept if the selection's
@@ -286,15 +286,7 @@ pub fn build(config: &Config, progress: &dyn Fn(&str)) -> Result<Built, BuildErr
         let used = used_inputs(&scheduled.selection.terms);
         if !used.is_empty() && used != scheduled.vars && !m.include_target && used.len() <= max {
             progress("clustering again on the inputs the structure uses");
-            if let Ok(second) = schedule(
-                config,
-                &structure,
-                regressors,
-                target_model,
-                train_end,
-                &used,
-                progress,
-            ) {
+            if let Ok(second) = schedule(&fitting, &used) {
                 if second.selection.validation_rmse < scheduled.selection.validation_rmse {
                     notes.push(scheduling_note(&scheduled, &second, config));
                     scheduled = second;
@@ -568,6 +560,18 @@ pub fn build(config: &Config, progress: &dyn Fn(&str)) -> Result<Built, BuildErr
     })
 }
 
+/// What every regime partition is fitted against: the settings, the regressors, the target
+/// (model domain, NaN where not fitted) and the end of the training rows.
+#[derive(Clone, Copy)]
+struct Fitting<'a> {
+    config: &'a Config,
+    structure: &'a StructureParams,
+    regressors: Regressors<'a>,
+    target_model: &'a [f64],
+    train_end: usize,
+    progress: &'a dyn Fn(&str),
+}
+
 /// Regimes on a set of scheduling variables and the structure selected with their memberships.
 struct Scheduled {
     /// The scheduling variables (indices into the inputs).
@@ -591,15 +595,15 @@ struct Scheduled {
 /// Clusters the training rows on `vars` (and the target, in product space), evaluates every
 /// row's memberships, selects lags and dead times, and checks every regime has data enough for
 /// its parameters.
-fn schedule(
-    config: &Config,
-    structure: &StructureParams,
-    regressors: Regressors<'_>,
-    target_model: &[f64],
-    train_end: usize,
-    vars: &[usize],
-    progress: &dyn Fn(&str),
-) -> Result<Scheduled, BuildError> {
+fn schedule(fitting: &Fitting<'_>, vars: &[usize]) -> Result<Scheduled, BuildError> {
+    let Fitting {
+        config,
+        regressors,
+        target_model,
+        train_end,
+        progress,
+        ..
+    } = *fitting;
     let m = &config.modelling;
     let inputs = regressors.inputs;
     // Regimes on the scheduling variables (and the target, in product space), training rows only.
@@ -670,17 +674,7 @@ fn schedule(
     };
     let last = candidates.len() - 1;
     for (attempt, partition) in candidates.into_iter().enumerate() {
-        match fit_regimes(
-            config,
-            structure,
-            regressors,
-            target_model,
-            train_end,
-            vars,
-            (&data, &scaling, rows.len()),
-            partition,
-            progress,
-        ) {
+        match fit_regimes(fitting, vars, (&data, &scaling, rows.len()), partition) {
             Err(BuildError::RegimeTooThin {
                 regime,
                 count,
@@ -733,18 +727,20 @@ const SAMPLES_PER_PARAMETER: usize = 5;
 
 /// Memberships of every row in `partition`'s regimes, the structure selected with them, and the
 /// check that every regime has data enough for its parameters.
-#[allow(clippy::too_many_arguments)]
 fn fit_regimes(
-    config: &Config,
-    structure: &StructureParams,
-    regressors: Regressors<'_>,
-    target_model: &[f64],
-    train_end: usize,
+    fitting: &Fitting<'_>,
     vars: &[usize],
     (data, scaling, clustering_rows): (&Columns, &Scaling, usize),
     partition: Partition,
-    progress: &dyn Fn(&str),
 ) -> Result<Scheduled, BuildError> {
+    let Fitting {
+        config,
+        structure,
+        regressors,
+        target_model,
+        train_end,
+        progress,
+    } = *fitting;
     let m = &config.modelling;
     let inputs = regressors.inputs;
     let n = target_model.len();
