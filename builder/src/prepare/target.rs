@@ -347,6 +347,22 @@ mod tests {
         );
     }
 
+    /// Settings for one lab file with the time in column `drawn`: `,`, UTC, year first.
+    fn lab_file(path: std::path::PathBuf) -> LabSpec {
+        LabSpec {
+            files: vec![path],
+            timestamp: TimestampColumns::One("drawn".into()),
+            delimiter: b',',
+            naive_offset_minutes: 0,
+            decimal_comma: false,
+            date_order: crate::timestamp::DateOrder::Ymd,
+            long_format: None,
+            delay: crate::duration::Span::from_secs(0),
+            stamped_at: crate::config::LabStamp::Sample,
+            below_limit: BelowLimit::Skip,
+        }
+    }
+
     /// A lab system's export sorted by sample number is not in time order: its rows are put in
     /// time order (two samples at one time keep their file order), where a data file's rows
     /// going backwards are an error.
@@ -360,19 +376,7 @@ mod tests {
              2026-03-02 09:00,0.2\n2026-03-02 08:00,0.15\n",
         )
         .expect("write");
-        let lab = LabSpec {
-            files: vec![path],
-            timestamp: TimestampColumns::One("drawn".into()),
-            delimiter: b',',
-            naive_offset_minutes: 0,
-            decimal_comma: false,
-            date_order: crate::timestamp::DateOrder::Ymd,
-            long_format: None,
-            delay: crate::duration::Span::from_secs(0),
-            stamped_at: crate::config::LabStamp::Sample,
-            below_limit: BelowLimit::Skip,
-        };
-        let samples = read_lab_files(&lab, "XA-1").expect("read");
+        let samples = read_lab_files(&lab_file(path), "XA-1").expect("read");
         let hour = 3_600_000_000;
         let eight = samples.times[0];
         assert_eq!(
@@ -390,16 +394,10 @@ mod tests {
         let path = dir.path().join("lab.csv");
         std::fs::write(&path, "drawn;XA-1\n02.03.2026 09:15:00;0.42\n").expect("write");
         let lab = LabSpec {
-            files: vec![path],
-            timestamp: TimestampColumns::One("drawn".into()),
             delimiter: b';',
             naive_offset_minutes: 60,
-            decimal_comma: false,
             date_order: crate::timestamp::DateOrder::Dmy,
-            long_format: None,
-            delay: crate::duration::Span::from_secs(0),
-            stamped_at: crate::config::LabStamp::Sample,
-            below_limit: BelowLimit::Skip,
+            ..lab_file(path)
         };
         let samples = read_lab_files(&lab, "XA-1").expect("read");
         // 09:15 at UTC+01:00 is 08:15Z: 1772439300 s since the epoch (Python's datetime).
