@@ -596,16 +596,9 @@ struct Scheduled {
 /// row's memberships, selects lags and dead times, and checks every regime has data enough for
 /// its parameters.
 fn schedule(fitting: &Fitting<'_>, vars: &[usize]) -> Result<Scheduled, BuildError> {
-    let Fitting {
-        config,
-        regressors,
-        target_model,
-        train_end,
-        progress,
-        ..
-    } = *fitting;
-    let m = &config.modelling;
-    let inputs = regressors.inputs;
+    let m = &fitting.config.modelling;
+    let (inputs, target_model) = (fitting.regressors.inputs, fitting.target_model);
+    let (train_end, progress) = (fitting.train_end, fitting.progress);
     // Regimes on the scheduling variables (and the target, in product space), training rows only.
     let rows: Vec<usize> = (0..train_end)
         .filter(|&k| {
