@@ -18,6 +18,7 @@ use crate::identify::design::{self, Regressors};
 use crate::identify::global::{fit_baseline, fit_global};
 use crate::identify::refine::{refine, simulation_mse};
 use crate::identify::stepwise::{
+    self,
     predict, select, Selection, SelectionError, Step, StructureParams,
 };
 use crate::identify::wls::{Fit, FitError};
@@ -768,10 +769,10 @@ fn fit_regimes(
     }
 
     // Before the search: every regime needs target samples enough for an offset and one
-    // regressor (lab samples may miss a regime the inputs visit).
-    let fitted: Vec<usize> = (0..train_end)
-        .filter(|&k| selection_target[k].is_finite())
-        .collect();
+    // regressor among the rows the search fits on (lab samples may miss a regime the inputs
+    // visit; a regime the plant only reaches late in the period has no rows before the
+    // validation block).
+    let fitted = stepwise::blocks(structure, regressors, &selection_target, c)?.train;
     for (i, w) in weights.iter().enumerate() {
         let samples: f64 = fitted.iter().map(|&k| w[k].powf(m.fuzziness)).sum();
         if samples < (SAMPLES_PER_PARAMETER * 2) as f64 {

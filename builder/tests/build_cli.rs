@@ -892,6 +892,51 @@ fn a_regime_without_lab_samples_steps_the_count_down() {
     assert_clean_failure(&r, "effective training samples");
 }
 
+/// An operating level the plant first reaches after the search's training rows (the first
+/// 70 % of the training period; the rest validates the structure): the regimes see it, but the
+/// regime on it has no row to be fitted on. The count steps down, as for a regime without lab
+/// samples; it used to fail with "no regressor structure could be fitted".
+#[test]
+fn a_regime_reached_only_late_steps_the_count_down() {
+    let dir = tempfile::tempdir().expect("tempdir");
+    let mut rng = Lcg(43);
+    let mut csv = String::from("time,X1,X2,Y\n");
+    for k in 0..6000 {
+        // Training period: rows before 4,500 (test share 25 %); the search fits rows before
+        // about 3,150 of them.
+        let level = if k < 3300 {
+            [10.0, 50.0][(k / 500) % 2]
+        } else {
+            [50.0, 90.0][(k / 300) % 2]
+        };
+        let x1 = level + 2.0 * rng.next();
+        let y = 0.001 * x1 * x1 + 0.05 * rng.next();
+        csv.push_str(&format!(
+            "{},{x1:.3},{:.3},{y:.4}\n",
+            stamp(k),
+            20.0 + rng.next()
+        ));
+    }
+    write(dir.path(), "plant.csv", &csv);
+    let config = SMALL.replace("regimes: { count: 2 }", "regimes: { variables: [X1] }");
+    write(dir.path(), "c.yaml", &config);
+    let r = regimix(dir.path(), &["build", "c.yaml", "--out", "o"]);
+    assert!(r.status.success(), "{}", String::from_utf8_lossy(&r.stderr));
+    let stdout = String::from_utf8_lossy(&r.stdout);
+    assert!(
+        stdout.contains("the validity rule chose 3 regimes, but with more than 2 a regime had too few target samples for its parameters: 2 regimes used"),
+        "{stdout}"
+    );
+    write(
+        dir.path(),
+        "c3.yaml",
+        &config.replace("variables: [X1]", "variables: [X1], count: 3"),
+    );
+    let r = regimix(dir.path(), &["build", "c3.yaml", "--out", "o3", "--quiet"]);
+    assert_eq!(r.status.code(), Some(2));
+    assert_clean_failure(&r, "effective training samples");
+}
+
 /// A "Bad" cell on X1 (the input that drives Y) every 13th row: the runtime holds the last
 /// good value over it (hold limit 5 samples by default), and the build fits on the inputs as
 /// the runtime sees them, so every row stays usable. Without the hold each bad sample costs

@@ -296,24 +296,33 @@ fn partial_f(rss_before: f64, rss_after: f64, q: f64, dof: f64) -> f64 {
 /// Accepted steps (additions and removals) of the search per allowed term, at most.
 const MAX_STEPS_PER_TERM: usize = 4;
 
-/// Chooses the structure and fits every regime. `weights[i][k]` is regime `i`'s membership of row
-/// `k`; `regressors` the inputs and the target's history; `target[k]` the model-domain target
-/// of row `k` (NaN: not fitted nor scored).
-pub fn select(
+/// The rows the search fits on and the block it validates on.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Blocks {
+    /// Rows where the target and every candidate regressor are valid, before the split.
+    pub train: Vec<usize>,
+    /// The validation block: after the split and a gap of the longest lag.
+    pub validation: std::ops::Range<usize>,
+}
+
+/// Splits the usable rows (target and every candidate valid) into the training rows (the first
+/// `train_share`) and the validation block that follows after a gap of the longest candidate
+/// lag, for `regimes` regimes. Errors when there are too few rows to fit or to validate.
+pub fn blocks(
     params: &StructureParams,
-    weights: &[Vec<f64>],
     regressors: Regressors<'_>,
     target: &[f64],
-) -> Result<Selection, SelectionError> {
+    regimes: usize,
+) -> Result<Blocks, SelectionError> {
     let all = candidates(&params.max_lag, params.max_output_lag, params.output_step);
     let n = target.len();
     let usable = usable_rows(&all, regressors, target, 0..n);
     // Enough rows to fit an offset and a couple of regressors per regime, and to validate.
-    let needed = 20 + 6 * weights.len();
+    let needed = 20 + 6 * regimes;
     if usable.len() < needed {
         return Err(SelectionError::TooFewRows {
             rows: usable.len(),
-            regimes: weights.len(),
+            regimes,
             needed,
         });
     }
@@ -330,6 +339,20 @@ pub fn select(
             samples: validation_samples,
         });
     }
+    Ok(Blocks { train, validation })
+}
+
+/// Chooses the structure and fits every regime. `weights[i][k]` is regime `i`'s membership of row
+/// `k`; `regressors` the inputs and the target's history; `target[k]` the model-domain target
+/// of row `k` (NaN: not fitted nor scored).
+pub fn select(
+    params: &StructureParams,
+    weights: &[Vec<f64>],
+    regressors: Regressors<'_>,
+    target: &[f64],
+) -> Result<Selection, SelectionError> {
+    let all = candidates(&params.max_lag, params.max_output_lag, params.output_step);
+    let Blocks { train, validation } = blocks(params, regressors, target, weights.len())?;
     let p = all.len();
     let row = |k: usize, out: &mut [f64]| {
         for (o, &t) in out.iter_mut().zip(&all) {
