@@ -17,9 +17,9 @@ use crate::error::DataError;
 use crate::identify::design::{self, Regressors};
 use crate::identify::global::{fit_baseline, fit_global};
 use crate::identify::refine::{refine, simulation_mse};
+use crate::identify::scheduling::{rank_inputs, scheduling_inputs};
 use crate::identify::stepwise::{
-    self,
-    predict, select, Selection, SelectionError, Step, StructureParams,
+    self, predict, select, Selection, SelectionError, Step, StructureParams,
 };
 use crate::identify::wls::{Fit, FitError};
 use crate::identify::Term;
@@ -245,29 +245,37 @@ pub fn build(config: &Config, progress: &dyn Fn(&str)) -> Result<Built, BuildErr
     let mut notes = Vec::new();
     notes.extend(reading_note(ds.reading_cycle, target_model, config));
     let max = regimix_format::limits::MAX_ANTECEDENT;
-    let first = if !m.variables_given && m.variables.len() > max {
-        // More inputs than the regimes take: one linear model's structure says which inputs
-        // matter, and the regimes start on those.
-        progress("choosing scheduling variables with one linear model");
-        let used = linear_inputs(&structure, regressors, target_model, train_end)?;
-        if used.is_empty() || used.len() > max {
-            return Err(BuildError::TooManyVariables {
-                inputs: p,
-                used: used.len(),
-                max,
-            });
-        }
-        notes.push(format!(
-            "{p} inputs are more than the regimes take ({max}): they start on the {} one linear model uses ({}); `regimes.variables` fixes the choice",
-            used.len(),
-            used.iter()
-                .map(|&j| config.inputs[j].tag.as_str())
-                .collect::<Vec<_>>()
-                .join(", ")
-        ));
-        used
+    // One linear model says which inputs matter (the regimes start on those when there are more
+    // inputs than they take) and is the reference the inputs are ranked against.
+    let linear = if m.variables_given {
+        None
     } else {
-        m.variables.clone()
+        progress("fitting one linear model");
+        let fitted = linear_model(&structure, regressors, target_model, train_end);
+        if m.variables.len() > max {
+            Some(fitted?)
+        } else {
+            fitted.ok()
+        }
+    };
+    let first = match &linear {
+        Some(linear) if m.variables.len() > max => {
+            let used = used_inputs(&linear.selection.terms);
+            if used.is_empty() || used.len() > max {
+                return Err(BuildError::TooManyVariables {
+                    inputs: p,
+                    used: used.len(),
+                    max,
+                });
+            }
+            notes.push(format!(
+                "{p} inputs are more than the regimes take ({max}): they start on the {} one linear model uses ({}); `regimes.variables` fixes the choice",
+                used.len(),
+                tag_list(&used, config)
+            ));
+            used
+        }
+        _ => m.variables.clone(),
     };
     progress("clustering operating regimes");
     let fitting = Fitting {
@@ -278,23 +286,7 @@ pub fn build(config: &Config, progress: &dyn Fn(&str)) -> Result<Built, BuildErr
         train_end,
         progress,
     };
-    let mut scheduled = schedule(&fitting, &first)?;
-    if !m.variables_given {
-        // By default the regimes are first found on every input; the inputs the selected
-        // structure uses are then tried as the scheduling variables, kept if the selection's
-        // validation block says they predict better (common practice: schedule on the
-        // variables that carry the nonlinearity, which are among the consequent's).
-        let used = used_inputs(&scheduled.selection.terms);
-        if !used.is_empty() && used != scheduled.vars && !m.include_target && used.len() <= max {
-            progress("clustering again on the inputs the structure uses");
-            if let Ok(second) = schedule(&fitting, &used) {
-                if second.selection.validation_rmse < scheduled.selection.validation_rmse {
-                    notes.push(scheduling_note(&scheduled, &second, config));
-                    scheduled = second;
-                }
-            }
-        }
-    }
+    let scheduled = choose_schedule(&fitting, &first, linear.as_ref(), &mut notes)?;
     let Scheduled {
         vars,
         scaling,
@@ -856,13 +848,20 @@ fn reading_note(reading_cycle: usize, fresh: &[f64], config: &Config) -> Option<
     ))
 }
 
-/// The inputs one linear model (a single regime) selects on the training rows.
-fn linear_inputs(
+/// One linear model over the training rows, and the target it was selected on (NaN from the
+/// test block on).
+struct LinearModel {
+    selection: Selection,
+    target: Vec<f64>,
+}
+
+/// The structure search with a single regime (every weight 1) on the training rows.
+fn linear_model(
     structure: &StructureParams,
     regressors: Regressors<'_>,
     target_model: &[f64],
     train_end: usize,
-) -> Result<Vec<usize>, BuildError> {
+) -> Result<LinearModel, BuildError> {
     let n = target_model.len();
     let target: Vec<f64> = (0..n)
         .map(|k| {
@@ -874,7 +873,85 @@ fn linear_inputs(
         })
         .collect();
     let selection = select(structure, &[vec![1.0; n]], regressors, &target)?;
-    Ok(used_inputs(&selection.terms))
+    Ok(LinearModel { selection, target })
+}
+
+/// A ranked input must lower the one linear model's validation RMSE by this share at least to
+/// be proposed as a scheduling variable (our choice: an input that does nothing scores within
+/// a few per cent of 1 by chance, see [`rank_inputs`]' tests).
+const RANKED_LEAST: f64 = 0.1;
+
+/// The regimes on `first`; then, unless `regimes.variables` is set, on the inputs the selected
+/// structure uses and on the inputs ranked against the one linear model ([`rank_inputs`]).
+/// Each later partition is kept if the selection's validation block says it predicts better
+/// (common practice: schedule on the variables that carry the nonlinearity), with a note.
+fn choose_schedule(
+    fitting: &Fitting<'_>,
+    first: &[usize],
+    linear: Option<&LinearModel>,
+    notes: &mut Vec<String>,
+) -> Result<Scheduled, BuildError> {
+    let (config, progress) = (fitting.config, fitting.progress);
+    let m = &config.modelling;
+    let mut scheduled = schedule(fitting, first)?;
+    // In product space the target is one of the clustering variables: kept as configured.
+    if m.variables_given || m.include_target {
+        return Ok(scheduled);
+    }
+    let max = regimix_format::limits::MAX_ANTECEDENT;
+    let mut tried = vec![scheduled.vars.clone()];
+    // `what` names the new variables in the note, given their tags.
+    let mut consider =
+        |vars: Vec<usize>, what: &dyn Fn(&str) -> String, scheduled: &mut Scheduled| {
+            if vars.is_empty() || vars.len() > max || tried.contains(&vars) {
+                return;
+            }
+            progress(&format!("clustering again on {}", tag_list(&vars, config)));
+            tried.push(vars.clone());
+            if let Ok(other) = schedule(fitting, &vars) {
+                if other.selection.validation_rmse < scheduled.selection.validation_rmse {
+                    let what = what(&tag_list(&vars, config));
+                    notes.push(scheduling_note(scheduled, &other, &what, config));
+                    *scheduled = other;
+                }
+            }
+        };
+    let used = used_inputs(&scheduled.selection.terms);
+    consider(
+        used,
+        &|tags| format!("the inputs the model uses ({tags})"),
+        &mut scheduled,
+    );
+    if let Some(linear) = linear {
+        progress("ranking the inputs as scheduling variables");
+        let all: Vec<usize> = (0..config.inputs.len()).collect();
+        let ranked = rank_inputs(
+            &linear.selection,
+            fitting.structure,
+            fitting.regressors,
+            &linear.target,
+            &all,
+        );
+        let proposed = scheduling_inputs(&ranked, RANKED_LEAST, max);
+        let best = ranked.first().map_or(1.0, |r| r.ratio);
+        consider(
+            proposed,
+            &|tags| {
+                format!("{tags}, where one linear model's behaviour changes most (fitted over their ranges it validates at {best:.2}× its RMSE)")
+            },
+            &mut scheduled,
+        );
+    }
+    Ok(scheduled)
+}
+
+/// The tags of `inputs`, comma-separated.
+fn tag_list(inputs: &[usize], config: &Config) -> String {
+    inputs
+        .iter()
+        .map(|&j| config.inputs[j].tag.as_str())
+        .collect::<Vec<_>>()
+        .join(", ")
 }
 
 /// The inputs (indices, ascending) that `terms` use.
@@ -891,21 +968,15 @@ fn used_inputs(terms: &[Term]) -> Vec<usize> {
     used
 }
 
-/// The note when the regimes were found again on the inputs the structure uses.
-fn scheduling_note(first: &Scheduled, second: &Scheduled, config: &Config) -> String {
-    let tags: Vec<&str> = second
-        .vars
-        .iter()
-        .map(|&j| config.inputs[j].tag.as_str())
-        .collect();
+/// The note when the regimes were found again on other inputs (`what` names them).
+fn scheduling_note(first: &Scheduled, second: &Scheduled, what: &str, config: &Config) -> String {
     let before = if first.vars.len() == config.inputs.len() {
         format!("all {}", first.vars.len())
     } else {
-        format!("the {} it started on", first.vars.len())
+        tag_list(&first.vars, config)
     };
     format!(
-        "the regimes are scheduled on the inputs the model uses ({}), not on {before}: validation RMSE {:.4} against {:.4} (model domain); `regimes.variables` fixes the choice",
-        tags.join(", "),
+        "the regimes are scheduled on {what}, not on {before}: validation RMSE {:.4} against {:.4} (model domain); `regimes.variables` fixes the choice",
         second.selection.validation_rmse,
         first.selection.validation_rmse
     )

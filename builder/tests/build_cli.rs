@@ -737,6 +737,74 @@ structure: { max-lag: 5min }
     );
 }
 
+/// A first-order plant whose time constant follows the throughput X3 (pole 0.5 to 0.95, as a
+/// residence time does): X3 has no effect of its own on Y, so neither one linear model nor the
+/// regimes' local models use it, and clustering on all four inputs or on X1 misses it. Ranked
+/// against the linear model, X3 stands out; the regimes move there and the test error drops
+/// (test RMSE 0.05× the linear model's, against 1.03× scheduled on X1, when written).
+#[test]
+fn regimes_move_to_the_input_the_dynamics_change_with() {
+    let dir = tempfile::tempdir().expect("tempdir");
+    let mut rng = Lcg(57);
+    let mut csv = String::from("time,X1,X2,X3,X4,Y\n");
+    let (mut x1, mut s, mut y) = (50.0, 0.5, 0.0);
+    for k in 0..5000 {
+        if k % 41 == 0 {
+            x1 = 50.0 + 15.0 * rng.next();
+        }
+        if k % 300 == 0 {
+            s = 0.5 + 0.5 * rng.next();
+        }
+        let pole = 0.5 + 0.45 * s;
+        y = pole * y + (1.0 - pole) * 0.1 * (x1 - 50.0) + 0.002 * rng.next();
+        csv.push_str(&format!(
+            "{},{x1:.3},{:.3},{:.3},{:.3},{y:.4}\n",
+            stamp(k),
+            20.0 + rng.next(),
+            20.0 + 20.0 * s + 0.05 * rng.next(),
+            3.0 + 0.5 * rng.next()
+        ));
+    }
+    write(dir.path(), "plant.csv", &csv);
+    let config = "
+data: { files: [plant.csv], timestamp: time }
+sample-time: 1min
+target: { tag: Y, source: analyzer }
+inputs: [{ tag: X1 }, { tag: X2 }, { tag: X3 }, { tag: X4 }]
+structure: { max-lag: 5min }
+";
+    write(dir.path(), "auto.yaml", config);
+    write(
+        dir.path(),
+        "x1.yaml",
+        &format!("{config}regimes: {{ variables: [X1] }}\n"),
+    );
+    let build = |name: &str| -> (f64, String) {
+        let out = format!("{name}.out");
+        let r = regimix(dir.path(), &["build", name, "--out", &out, "--quiet"]);
+        assert!(r.status.success(), "{}", String::from_utf8_lossy(&r.stderr));
+        let text =
+            std::fs::read_to_string(dir.path().join(&out).join("summary.json")).expect("summary");
+        let json: serde_json::Value = serde_json::from_str(&text).expect("json");
+        (json["rmse_ratio"].as_f64().expect("ratio"), text)
+    };
+    let (auto, summary) = build("auto.yaml");
+    let (x1, _) = build("x1.yaml");
+    assert!(
+        summary.contains(
+            "the regimes are scheduled on X3, where one linear model's behaviour changes most"
+        ),
+        "{summary}"
+    );
+    let inspect = regimix(dir.path(), &["inspect", "auto.yaml.out/model.rgmx"]);
+    let text = String::from_utf8_lossy(&inspect.stdout);
+    assert!(text.contains("regimes scheduled on: X3 ("), "{text}");
+    assert!(
+        auto < 0.75 * x1,
+        "test RMSE / linear: {auto} on the ranked input, {x1} on X1"
+    );
+}
+
 /// Fourteen inputs, more than the regimes take, and no `regimes.variables`: one linear model
 /// picks the inputs that matter (X1, X2), the regimes are found on those, and the build says so.
 #[test]

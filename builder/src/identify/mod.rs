@@ -24,6 +24,7 @@ pub mod design;
 pub mod gains;
 pub mod global;
 pub mod refine;
+pub mod scheduling;
 pub mod stepwise;
 pub mod wls;
 
