@@ -17,7 +17,7 @@ use crate::error::DataError;
 use crate::identify::design::{self, Regressors};
 use crate::identify::global::{fit_baseline, fit_global};
 use crate::identify::refine::{refine, simulation_mse};
-use crate::identify::scheduling::{rank_inputs, scheduling_inputs};
+use crate::identify::scheduling::{rank_inputs, scheduling_inputs, Ranked};
 use crate::identify::stepwise::{
     self, predict, select, Selection, SelectionError, Step, StructureParams,
 };
@@ -183,6 +183,9 @@ pub struct Built {
     pub clustering_rows: usize,
     /// Whether output-error refinement was applied (and kept).
     pub refined: bool,
+    /// The inputs ranked as scheduling variables, best first ([`rank_inputs`]); empty when
+    /// `regimes.variables` is set.
+    pub ranking: Vec<Ranked>,
     /// Advice on the result for the engineer ([`structure_notes`]).
     pub notes: Vec<String>,
 }
@@ -286,7 +289,7 @@ pub fn build(config: &Config, progress: &dyn Fn(&str)) -> Result<Built, BuildErr
         train_end,
         progress,
     };
-    let scheduled = choose_schedule(&fitting, &first, linear.as_ref(), &mut notes)?;
+    let (scheduled, ranking) = choose_schedule(&fitting, &first, linear.as_ref(), &mut notes)?;
     let Scheduled {
         vars,
         scaling,
@@ -549,6 +552,7 @@ pub fn build(config: &Config, progress: &dyn Fn(&str)) -> Result<Built, BuildErr
         training_rows: train_rows.len(),
         clustering_rows,
         refined,
+        ranking,
         notes,
     })
 }
@@ -885,18 +889,19 @@ const RANKED_LEAST: f64 = 0.1;
 /// structure uses and on the inputs ranked against the one linear model ([`rank_inputs`]).
 /// Each later partition is kept if the selection's validation block says it predicts better
 /// (common practice: schedule on the variables that carry the nonlinearity), with a note.
+/// Returns the partition kept and the ranking (empty when none was made).
 fn choose_schedule(
     fitting: &Fitting<'_>,
     first: &[usize],
     linear: Option<&LinearModel>,
     notes: &mut Vec<String>,
-) -> Result<Scheduled, BuildError> {
+) -> Result<(Scheduled, Vec<Ranked>), BuildError> {
     let (config, progress) = (fitting.config, fitting.progress);
     let m = &config.modelling;
     let mut scheduled = schedule(fitting, first)?;
     // In product space the target is one of the clustering variables: kept as configured.
     if m.variables_given || m.include_target {
-        return Ok(scheduled);
+        return Ok((scheduled, Vec::new()));
     }
     let max = regimix_format::limits::MAX_ANTECEDENT;
     let mut tried = vec![scheduled.vars.clone()];
@@ -922,27 +927,28 @@ fn choose_schedule(
         &|tags| format!("the inputs the model uses ({tags})"),
         &mut scheduled,
     );
-    if let Some(linear) = linear {
-        progress("ranking the inputs as scheduling variables");
-        let all: Vec<usize> = (0..config.inputs.len()).collect();
-        let ranked = rank_inputs(
-            &linear.selection,
-            fitting.structure,
-            fitting.regressors,
-            &linear.target,
-            &all,
-        );
-        let proposed = scheduling_inputs(&ranked, RANKED_LEAST, max);
-        let best = ranked.first().map_or(1.0, |r| r.ratio);
-        consider(
-            proposed,
-            &|tags| {
-                format!("{tags}, where one linear model's behaviour changes most (fitted over their ranges it validates at {best:.2}× its RMSE)")
-            },
-            &mut scheduled,
-        );
-    }
-    Ok(scheduled)
+    let Some(linear) = linear else {
+        return Ok((scheduled, Vec::new()));
+    };
+    progress("ranking the inputs as scheduling variables");
+    let all: Vec<usize> = (0..config.inputs.len()).collect();
+    let ranked = rank_inputs(
+        &linear.selection,
+        fitting.structure,
+        fitting.regressors,
+        &linear.target,
+        &all,
+    );
+    let proposed = scheduling_inputs(&ranked, RANKED_LEAST, max);
+    let best = ranked.first().map_or(1.0, |r| r.ratio);
+    consider(
+        proposed,
+        &|tags| {
+            format!("{tags}, where one linear model's behaviour changes most (fitted over their ranges it validates at {best:.2}× its RMSE)")
+        },
+        &mut scheduled,
+    );
+    Ok((scheduled, ranked))
 }
 
 /// The tags of `inputs`, comma-separated.

@@ -38,8 +38,22 @@ pub struct Summary {
     pub training_rows: usize,
     /// Output-error refinement applied and kept.
     pub refined: bool,
+    /// The inputs ranked as scheduling variables, best first: one linear model's validation
+    /// RMSE with its structure fitted over three ranges of the input, over its own (empty when
+    /// `regimes.variables` is set).
+    pub input_ranking: Vec<InputRank>,
     /// Advice on the result (e.g. a delay on the search limit); empty when there is none.
     pub notes: Vec<String>,
+}
+
+/// One input's place in the ranking of scheduling variables.
+#[derive(Debug, Clone, Serialize)]
+pub struct InputRank {
+    /// Input tag.
+    pub tag: String,
+    /// Validation RMSE over the input's ranges / one linear model's (below 1: its behaviour
+    /// changes along the input).
+    pub ratio: f64,
 }
 
 /// Model metrics on the test block.
@@ -106,6 +120,14 @@ pub fn summary(b: &Built, seed: u64) -> Summary {
         test_start: Rfc3339(b.prepared.dataset.time(b.test_start)).to_string(),
         training_rows: b.training_rows,
         refined: b.refined,
+        input_ranking: b
+            .ranking
+            .iter()
+            .map(|r| InputRank {
+                tag: tags.get(r.input).cloned().unwrap_or_default(),
+                ratio: r.ratio,
+            })
+            .collect(),
         notes: b.notes.clone(),
     }
 }

@@ -796,6 +796,20 @@ structure: { max-lag: 5min }
         ),
         "{summary}"
     );
+    let json: serde_json::Value = serde_json::from_str(&summary).expect("json");
+    let ranking = json["input_ranking"].as_array().expect("ranking");
+    assert_eq!(ranking.len(), 4, "{summary}");
+    assert_eq!(ranking[0]["tag"], "X3", "{summary}");
+    assert!(
+        ranking[0]["ratio"].as_f64().expect("ratio") < 0.5,
+        "{summary}"
+    );
+    let report =
+        std::fs::read_to_string(dir.path().join("auto.yaml.out/report.html")).expect("report");
+    assert!(
+        report.contains("Inputs ranked as scheduling variables") && report.contains("X3 0."),
+        "report"
+    );
     let inspect = regimix(dir.path(), &["inspect", "auto.yaml.out/model.rgmx"]);
     let text = String::from_utf8_lossy(&inspect.stdout);
     assert!(text.contains("regimes scheduled on: X3 ("), "{text}");

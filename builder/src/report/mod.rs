@@ -159,6 +159,20 @@ pub fn report_html(b: &Built, config: &Config, s: &Summary) -> String {
 
     // Regimes.
     h.push_str("<h2 id=\"regimes\">Operating regimes</h2>");
+    if !s.input_ranking.is_empty() {
+        let ranked: Vec<String> = s
+            .input_ranking
+            .iter()
+            .take(8)
+            .map(|r| format!("{} {:.2}", esc(&r.tag), r.ratio))
+            .collect();
+        let _ = write!(
+            h,
+            "<p>Inputs ranked as scheduling variables (one linear model's validation RMSE with its structure fitted over three ranges of the input, over its own; below 1, its behaviour changes along that input): {}{}.</p>",
+            ranked.join(", "),
+            if s.input_ranking.len() > 8 { ", …" } else { "" }
+        );
+    }
     if b.validity.len() > 1 {
         h.push_str("<table><tr><th>regimes</th><th>fuzzy hypervolume</th><th>partition density</th><th>partition coefficient</th><th>partition entropy</th><th>Xie–Beni</th></tr>");
         for v in &b.validity {
