@@ -3,7 +3,7 @@
 #![allow(missing_docs)] // criterion_group! generates undocumented items
 
 use criterion::{black_box, criterion_group, criterion_main, Criterion};
-use regimix_runtime::{state_words, Estimator, ModelView};
+use regimix_runtime::{state_words, state_words_for, Estimator, ModelView};
 
 #[path = "support/model.rs"]
 mod support;
@@ -17,15 +17,15 @@ fn step(c: &mut Criterion) {
     let mut e64 = Estimator::new(view, &mut s64).expect("state");
     let x64 = INPUTS;
     group.bench_function("f64", |b| b.iter(|| e64.step(black_box(&x64))));
-    let mut s32 = vec![0.0f32; state_words(&view)];
+    let mut s32 = vec![0.0f32; state_words_for::<f32>(&view)];
     let mut e32 = Estimator::new(view, &mut s32).expect("state");
     let x32 = INPUTS.map(|x| x as f32);
     group.bench_function("f32", |b| b.iter(|| e32.step(black_box(&x32))));
     group.finish();
     eprintln!(
-        "state: {} words ({} bytes in f64)",
-        state_words(&view),
-        8 * state_words(&view)
+        "state: {} bytes in f64, {} in f32 (with its parameter copy)",
+        8 * state_words(&view),
+        4 * state_words_for::<f32>(&view)
     );
 }
 

@@ -10,13 +10,13 @@
 //! Prints the best of ten rounds in ns per step.
 #![allow(missing_docs)]
 
-use regimix_runtime::{state_words, Estimator, ModelView, Real};
+use regimix_runtime::{state_words_for, Estimator, ModelView, Real};
 
 #[path = "../benches/support/model.rs"]
 mod support;
 
 fn run<T: Real>(view: ModelView<'_>, steps: usize) -> f64 {
-    let mut state = vec![T::ZERO; state_words(&view)];
+    let mut state = vec![T::ZERO; state_words_for::<T>(&view)];
     let Ok(mut estimator) = Estimator::new(view, &mut state) else {
         return f64::NAN;
     };

@@ -4,7 +4,7 @@ use regimix_format::limits::{MAX_ANTECEDENT, MAX_INPUTS, MAX_REGIMES, MAX_REGRES
 use regimix_format::transform::Transform;
 use regimix_format::{ModelView, Regressor, Source};
 
-use crate::real::Real;
+use crate::real::{Real, Word};
 use crate::status::{LabOutcome, Status};
 
 /// Where each part of the state lives, in words of the state slice.
@@ -27,7 +27,9 @@ struct Layout {
 }
 
 // Fixed words at the start of the state.
+/// Samples processed since the last reset, capped at [`COUNT_CAP`] (exact in `f32` too).
 const COUNT: usize = 0;
+const COUNT_CAP: f64 = 1e6;
 const BIAS: usize = 1;
 const LAST: usize = 2;
 const HEADER_WORDS: usize = 3;
@@ -94,9 +96,15 @@ impl Layout {
     }
 }
 
-/// Words of state (of the estimator's float type) a model needs.
+/// Words of state an `f64` estimator needs for `model` (the C interface's count).
 pub fn state_words(model: &ModelView<'_>) -> usize {
-    Layout::of(model).total
+    state_words_for::<f64>(model)
+}
+
+/// Words of state an estimator computing in `T` needs for `model`: an `f32` estimator also
+/// keeps its parameters converted to `f32` there.
+pub fn state_words_for<T: Real>(model: &ModelView<'_>) -> usize {
+    Layout::of(model).total + copy_words::<T>(model)
 }
 
 /// Why an estimator could not be set up.
@@ -140,42 +148,69 @@ pub struct Estimate<T> {
 
 /// Evaluates a model sample by sample. All memory is the caller's `state` slice.
 #[derive(Debug)]
-pub struct Estimator<'m, 's, T: Real> {
+pub struct Estimator<'m: 's, 's, T: Real> {
     model: ModelView<'m>,
+    /// The state's history and scratch words ([`Layout`]).
     state: &'s mut [T],
     layout: Layout,
-    hot: Hot<'m, T>,
+    hot: Hot<'s, T>,
 }
 
 /// Signature of the squared-distance kernels ([`distances_with`]).
-type DistanceKernel<T> =
-    fn(core::slice::ChunksExact<'_, u8>, &[T; MAX_ANTECEDENT], &mut [T; MAX_REGIMES]);
+type DistanceKernel<T> = fn(
+    core::slice::ChunksExact<'_, <T as Real>::Word>,
+    &[T; MAX_ANTECEDENT],
+    &mut [T; MAX_REGIMES],
+);
+
+/// Words of the parameter copy an `f32` estimator keeps after its [`Layout`] (none for `f64`):
+/// section C (4 words per input) and section F, converted once so that `step` converts none.
+fn copy_words<T: Real>(model: &ModelView<'_>) -> usize {
+    if T::COPIES_PARAMETERS {
+        (model.input_section().len() + model.regime_section().len()) / 8
+    } else {
+        0
+    }
+}
 
 /// What `step` reads from the model on every sample, looked up once when an estimator is set
 /// up: the sections (range-checked then), the counts, the target's limits and the distance
 /// kernel for the antecedent's dimension.
 #[derive(Debug, Clone)]
-struct Hot<'m, T> {
-    /// Section C, one 32-byte record per input.
-    inputs: &'m [u8],
+struct Hot<'h, T: Real> {
+    /// Section C, one record of four words per input.
+    inputs: &'h [T::Word],
     /// Input of each antecedent variable (the view checked each against the input count).
     antecedent: [u8; MAX_ANTECEDENT],
     /// Section F in blocks of two regimes (an odd count's last block ends with padding).
-    regimes: core::slice::ChunksExact<'m, u8>,
+    regimes: core::slice::ChunksExact<'h, T::Word>,
     /// Antecedent variables, regressors and regimes, each capped at its limit.
     p: usize,
     nr: usize,
     c: usize,
     distances: DistanceKernel<T>,
-    target_low: f64,
-    target_high: f64,
-    fuzziness: f64,
+    /// The estimate's range (engineering units).
+    target_low: T,
+    target_high: T,
+    /// Fuzziness 2 (the memberships need no power), else the exponent 1/(m − 1).
+    square: bool,
+    exponent: T,
+    /// Samples until every lag buffer is full, and the cap on the sample count.
+    warmup: T,
+    count_cap: T,
+    transform: Transform,
     threshold: T,
     hold: T,
 }
 
-impl<'m, T: Real> Hot<'m, T> {
-    fn of(model: &ModelView<'m>) -> Self {
+impl<'h, T: Real> Hot<'h, T> {
+    /// The hot fields of `model`, its parameters read from `copy` (the converted sections C
+    /// and F, for `f32`) or from the file itself (`f64`).
+    fn of(model: &ModelView<'h>, copy: &'h [T]) -> Self {
+        let (input_copy, regime_copy) =
+            copy.split_at(copy.len().min(model.input_section().len() / 8));
+        let block =
+            2 * regimix_format::view::regime_len(model.n_antecedent(), model.n_regressors()) / 8;
         // Section B's first five fields (the rest serve lab results).
         let [_, target_low, target_high, fuzziness, threshold] =
             fields::<f64, 5>(model.target_record());
@@ -187,9 +222,9 @@ impl<'m, T: Real> Hot<'m, T> {
             *slot = record.first().copied().unwrap_or(0); // input < n_inputs ≤ MAX_INPUTS
         }
         Hot {
-            inputs: model.input_section(),
+            inputs: T::words(model.input_section(), input_copy),
             antecedent,
-            regimes: model.regime_pairs(),
+            regimes: T::words(model.regime_section(), regime_copy).chunks_exact(block.max(1)),
             p,
             nr: model.n_regressors().min(MAX_REGRESSORS),
             c: model.n_regimes().min(MAX_REGIMES),
@@ -207,51 +242,71 @@ impl<'m, T: Real> Hot<'m, T> {
                 11 => distances_with::<T, 11, LANES>,
                 _ => distances_with::<T, 12, LANES>,
             },
-            target_low,
-            target_high,
-            fuzziness,
+            target_low: T::from_f64(target_low),
+            target_high: T::from_f64(target_high),
+            square: fuzziness == 2.0,
+            exponent: T::from_f64(1.0 / (fuzziness - 1.0)),
+            warmup: T::from_f64(Layout::of(model).warmup as f64),
+            count_cap: T::from_f64(COUNT_CAP),
+            transform: model.transform(),
             threshold: T::from_f64(threshold),
             hold: T::from_f64(f64::from(model.hold_limit())),
         }
     }
 }
 
-impl<'m, 's, T: Real> Estimator<'m, 's, T> {
-    /// Sets up an estimator in `state` (at least [`state_words`] long) and resets it.
+impl<'m: 's, 's, T: Real> Estimator<'m, 's, T> {
+    /// Sets up an estimator in `state` (at least [`state_words_for`] long: [`state_words`] for
+    /// `f64`) and resets it.
     pub fn new(model: ModelView<'m>, state: &'s mut [T]) -> Result<Self, InitError> {
-        let layout = Layout::of(&model);
-        if state.len() < layout.total {
-            return Err(InitError::StateTooSmall {
-                needed: layout.total,
-                given: state.len(),
-            });
+        let (layout, state, copy) = Self::split(&model, state)?;
+        // The parameters the kernels read, converted once (f32 only; empty for f64).
+        let words = model
+            .input_section()
+            .chunks_exact(8)
+            .chain(model.regime_section().chunks_exact(8));
+        for (w, bytes) in copy.iter_mut().zip(words) {
+            *w = decode(bytes);
         }
         let mut e = Estimator {
             model,
             state,
             layout,
-            hot: Hot::of(&model),
+            hot: Hot::of(&model, copy),
         };
         e.reset();
         Ok(e)
     }
 
     /// Re-attaches to a state slice that an earlier estimator for the same model left (the C
-    /// interface does this on every call); nothing is reset.
+    /// interface does this on every call); nothing is reset, and an `f32` estimator's
+    /// parameter copy is the one `new` wrote.
     pub fn resume(model: ModelView<'m>, state: &'s mut [T]) -> Result<Self, InitError> {
-        let layout = Layout::of(&model);
-        if state.len() < layout.total {
-            return Err(InitError::StateTooSmall {
-                needed: layout.total,
-                given: state.len(),
-            });
-        }
+        let (layout, state, copy) = Self::split(&model, state)?;
         Ok(Estimator {
             model,
             state,
             layout,
-            hot: Hot::of(&model),
+            hot: Hot::of(&model, copy),
         })
+    }
+
+    /// The layout, the state's history and scratch words, and the parameter copy after them.
+    #[allow(clippy::type_complexity)]
+    fn split(
+        model: &ModelView<'_>,
+        state: &'s mut [T],
+    ) -> Result<(Layout, &'s mut [T], &'s mut [T]), InitError> {
+        let layout = Layout::of(model);
+        let (total, copy) = (layout.total, copy_words::<T>(model));
+        if state.len() < total + copy {
+            return Err(InitError::StateTooSmall {
+                needed: total + copy,
+                given: state.len(),
+            });
+        }
+        let (state, rest) = state.split_at_mut(total);
+        Ok((layout, state, rest.get_mut(..copy).unwrap_or(&mut [])))
     }
 
     /// Forgets all history (after a restart or a long outage): warming up again, bias kept.
@@ -334,10 +389,6 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         self.state.get(start..end).unwrap_or(&[])
     }
 
-    fn transform(&self) -> Transform {
-        self.model.transform()
-    }
-
     /// Processes one sample of inputs (engineering units, in model input order).
     pub fn step(&mut self, inputs: &[T]) -> Estimate<T> {
         let model = self.model;
@@ -346,7 +397,7 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         if inputs.len() != n {
             return self.fallback(Status::WRONG_INPUT_COUNT, T::ZERO, 0);
         }
-        let first = !(self.get(COUNT).to_f64() > 0.0);
+        let first = !(self.get(COUNT) > T::ZERO);
         let hold = self.hot.hold;
         let mut heads = [0u16; HEADS];
         let mut standardized = [T::ZERO; MAX_INPUTS];
@@ -355,11 +406,11 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         let mut blocks = self.state.get_mut(HEADER_WORDS..).unwrap_or(&mut []);
         for (((&x, record), (head_out, standard)), &len) in inputs
             .iter()
-            .zip(self.hot.inputs.chunks_exact(32))
+            .zip(self.hot.inputs.chunks_exact(4))
             .zip(heads.iter_mut().zip(standardized.iter_mut()))
             .zip(&self.layout.ring_len)
         {
-            let [low, high, mean, std] = fields::<T, 4>(record);
+            let [low, high, mean, std] = words::<T, 4>(record);
             let len = len as usize;
             let Some((block, rest)) = blocks.split_at_mut_checked(3 + 2 * len) else {
                 break;
@@ -407,12 +458,14 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
                 self.fill(ring, len, newest);
             }
         }
-        let count = self.get(COUNT).to_f64();
-        let count = if count.is_finite() { count } else { 0.0 };
-        if count < self.layout.warmup as f64 {
+        let count = self.get(COUNT);
+        let count = if count.is_finite() { count } else { T::ZERO };
+        if count < self.hot.warmup {
             status |= Status::WARMING_UP;
         }
-        self.set(COUNT, T::from_f64((count + 1.0).min(1e6)));
+        let next = count + T::ONE;
+        let cap = self.hot.count_cap;
+        self.set(COUNT, if next < cap { next } else { cap });
 
         // Antecedent memberships, typicality and the blended consequents, one pass over the
         // regimes' records.
@@ -441,8 +494,7 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         if status & Status::INPUT_INVALID != 0 || !y.is_finite() {
             return self.fallback(status, typicality, dominant);
         }
-        let biased = (y + self.get(BIAS)).to_f64();
-        let mut value = self.transform().inverse(biased);
+        let mut value = T::untransform(self.hot.transform, y + self.get(BIAS));
         let (target_low, target_high) = (self.hot.target_low, self.hot.target_high);
         if !(value >= target_low) || !(value <= target_high) {
             status |= Status::CLIPPED;
@@ -452,7 +504,6 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
                 target_low
             };
         }
-        let value = T::from_f64(value);
         self.set(LAST, value);
         Estimate {
             value,
@@ -525,9 +576,7 @@ impl<'m, 's, T: Real> Estimator<'m, 's, T> {
         // Memberships β_i = u_i / Σu with u_i = (d²_min / d²_i)^(1/(m−1)). For m = 2 the scale
         // of u cancels, so u_i = 1/d²_i and both sums come from the regime pass: the estimate
         // then waits for one division after the last regime.
-        let m = hot.fuzziness;
-        let square = m == 2.0;
-        let exponent = T::from_f64(1.0 / (m - 1.0));
+        let (square, exponent) = (hot.square, hot.exponent);
         let power = |x: T| if square { x } else { x.powf(exponent) };
         let typicality = T::ONE / (T::ONE + power(pass.best_ratio));
         let (mut sum, mut numerator) = (pass.inverse_sum, pass.inverse_blend);
@@ -692,7 +741,7 @@ struct Pass<T> {
 /// their d² floored at 1e-30 and replaced by its reciprocal and their d²/η; then, one regime at
 /// a time and in order, the smallest d², the smallest d²/η and the membership sums.
 fn regime_pass<T: Real>(
-    pairs: core::slice::ChunksExact<'_, u8>,
+    pairs: core::slice::ChunksExact<'_, T::Word>,
     p: usize,
     c: usize,
     values: &[T],
@@ -756,36 +805,35 @@ impl<T: Real> Pass<T> {
 /// partial sums (value k into sum k mod 4), then (s₀ + s₁) + (s₂ + s₃).
 #[inline(always)]
 fn consequents<T: Real, const L: usize>(
-    block: &[u8],
+    block: &[T::Word],
     geometry: usize,
     values: &[T],
 ) -> ([T; L], [T; L]) {
-    let start = 8 * L * geometry;
-    let Some(rest) = block.get(start..start + 8 * L * (2 + values.len())) else {
+    let start = L * geometry;
+    let Some(rest) = block.get(start..start + L * (2 + values.len())) else {
         return ([T::NAN; L], [T::NAN; L]);
     };
-    let (head, coefficients) = rest.split_at(16 * L);
+    let (head, coefficients) = rest.split_at(2 * L);
     let mut acc = [[T::ZERO; L]; 4];
-    let groups = coefficients.chunks_exact(32 * L);
+    let groups = coefficients.chunks_exact(4 * L);
     let tail = groups.remainder();
     let chunks = values.chunks_exact(4);
     let remainder = chunks.remainder();
     for (vs, cs) in chunks.zip(groups) {
         for (k, (a, v)) in acc.iter_mut().zip(vs).enumerate() {
             for (lane, a) in a.iter_mut().enumerate() {
-                let at = 8 * (L * k + lane);
-                *a = *a + decode::<T>(&cs[at..at + 8]) * *v;
+                *a = *a + cs[L * k + lane].get() * *v;
             }
         }
     }
-    for (v, cs) in remainder.iter().zip(tail.chunks_exact(8 * L)) {
+    for (v, cs) in remainder.iter().zip(tail.chunks_exact(L)) {
         for (lane, a) in acc[0].iter_mut().enumerate() {
-            *a = *a + decode::<T>(&cs[8 * lane..8 * lane + 8]) * *v;
+            *a = *a + cs[lane].get() * *v;
         }
     }
-    let eta = core::array::from_fn(|lane| decode::<T>(&head[8 * lane..8 * lane + 8]));
+    let eta = core::array::from_fn(|lane| head[lane].get());
     let output = core::array::from_fn(|lane| {
-        let offset = decode::<T>(&head[8 * (L + lane)..8 * (L + lane) + 8]);
+        let offset = head[L + lane].get();
         let [s0, s1, s2, s3] = acc.map(|a| a[lane]);
         offset + ((s0 + s1) + (s2 + s3))
     });
@@ -800,7 +848,7 @@ fn consequents<T: Real, const L: usize>(
 /// copy (chosen once per sample), so the loops unroll and the byte-range checks fold into one
 /// per block: this is the hot spot of `step`.
 fn distances_with<T: Real, const P: usize, const L: usize>(
-    pairs: core::slice::ChunksExact<'_, u8>,
+    pairs: core::slice::ChunksExact<'_, T::Word>,
     x: &[T; MAX_ANTECEDENT],
     d2: &mut [T; MAX_REGIMES],
 ) {
@@ -810,7 +858,7 @@ fn distances_with<T: Real, const P: usize, const L: usize>(
         // word `first` on (stride two words).
         for first in (0..2).step_by(L) {
             if let Some(out) = slots.next() {
-                let lanes = block.get(8 * first..).unwrap_or(&[]);
+                let lanes = block.get(first..).unwrap_or(&[]);
                 out.copy_from_slice(&distance::<T, P, L>(lanes, x));
             }
         }
@@ -831,17 +879,14 @@ const LANES: usize = if cfg!(any(target_arch = "x86_64", target_arch = "aarch64"
 /// packed (NaN if too short).
 #[inline(always)]
 fn distance<T: Real, const P: usize, const L: usize>(
-    words: &[u8],
+    words: &[T::Word],
     x: &[T; MAX_ANTECEDENT],
 ) -> [T; L] {
     let mut total = [T::NAN; L];
-    let Some(geometry) = words.get(..8 * (2 * (P + P * (P + 1) / 2 - 1) + L)) else {
+    let Some(geometry) = words.get(..2 * (P + P * (P + 1) / 2 - 1) + L) else {
         return total;
     };
-    let word = |lane: usize, k: usize| {
-        let at = 8 * (2 * k + lane);
-        geometry.get(at..at + 8).map_or(T::NAN, decode)
-    };
+    let word = |lane: usize, k: usize| geometry.get(2 * k + lane).map_or(T::NAN, |w| w.get());
     let mut diff = [[T::ZERO; L]; P];
     for a in 0..P {
         for lane in 0..L {
@@ -882,6 +927,18 @@ fn fields<T: Real, const N: usize>(record: &[u8]) -> [T; N] {
     if let Some(bytes) = record.get(..8 * N) {
         for (o, b) in out.iter_mut().zip(bytes.chunks_exact(8)) {
             *o = decode(b);
+        }
+    }
+    out
+}
+
+/// The first `N` words of a record of section C as `T` (all NaN if the record is shorter).
+#[inline(always)]
+fn words<T: Real, const N: usize>(record: &[T::Word]) -> [T; N] {
+    let mut out = [T::NAN; N];
+    if let Some(words) = record.get(..N) {
+        for (o, w) in out.iter_mut().zip(words) {
+            *o = w.get();
         }
     }
     out
@@ -956,7 +1013,11 @@ mod tests {
             for c in 1..=MAX_REGIMES {
                 let (words, section, len) = regimes(c, 6, 3);
                 let mut d2 = [f64::NAN; MAX_REGIMES];
-                kernel(section.chunks_exact(16 * len), &x, &mut d2);
+                kernel(
+                    section.as_chunks::<8>().0.chunks_exact(2 * len),
+                    &x,
+                    &mut d2,
+                );
                 for (i, w) in words.iter().enumerate() {
                     // Exact: the lockstep lanes do the same operations in the same order.
                     let expected = by_definition(w, 6, &x);
@@ -980,7 +1041,7 @@ mod tests {
         for kernel in kernels {
             let mut d2 = [0.0f64; MAX_REGIMES];
             kernel(
-                section[..48].chunks_exact(32),
+                section[..48].as_chunks::<8>().0.chunks_exact(4),
                 &[0.0; MAX_ANTECEDENT],
                 &mut d2,
             );
@@ -1012,7 +1073,7 @@ mod tests {
             let mut d2: [f64; MAX_REGIMES] = core::array::from_fn(d2_of);
             let mut local = [f64::NAN; MAX_REGIMES];
             let pass = regime_pass(
-                section.chunks_exact(16 * len),
+                section.as_chunks::<8>().0.chunks_exact(2 * len),
                 p,
                 c,
                 &values,
@@ -1034,7 +1095,7 @@ mod tests {
                 section[eta_at(last)..eta_at(last) + 8].copy_from_slice(&f64::NAN.to_le_bytes());
                 let mut d2: [f64; MAX_REGIMES] = core::array::from_fn(d2_of);
                 let pass = regime_pass(
-                    section.chunks_exact(16 * len),
+                    section.as_chunks::<8>().0.chunks_exact(2 * len),
                     p,
                     c,
                     &values,
@@ -1059,7 +1120,7 @@ mod tests {
                 let mut d2 = [1.0f64; MAX_REGIMES];
                 let mut local = [f64::NAN; MAX_REGIMES];
                 let pass = regime_pass(
-                    section.chunks_exact(16 * len),
+                    section.as_chunks::<8>().0.chunks_exact(2 * len),
                     p,
                     c,
                     &values,

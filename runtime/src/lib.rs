@@ -31,7 +31,7 @@ pub mod ffi;
 mod real;
 mod status;
 
-pub use estimator::{state_words, Estimate, Estimator, InitError};
+pub use estimator::{state_words, state_words_for, Estimate, Estimator, InitError};
 pub use real::Real;
 pub use regimix_format::transform::Transform;
 pub use regimix_format::{DecodeError, ModelView};

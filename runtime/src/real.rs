@@ -4,6 +4,8 @@
 
 use core::ops::{Add, Div, Mul, Neg, Sub};
 
+use regimix_format::transform::Transform;
+
 /// A float the estimator can run on.
 pub trait Real:
     Copy
@@ -41,6 +43,42 @@ pub trait Real:
     /// The index [`from_index`](Real::from_index) stored; any other word gives some value the
     /// caller range-checks.
     fn to_index(self) -> usize;
+    /// How the per-sample kernels read a model parameter: the file's little-endian `f64` bytes
+    /// as they are (`f64`), or a copy converted once when the estimator is set up (`f32`: on a
+    /// single-precision FPU every `f64` → `f32` conversion is a library call).
+    #[doc(hidden)]
+    type Word: Word<Self>;
+    /// The target's inverse transform (model domain to engineering units) in this precision:
+    /// exactly [`Transform::inverse`] for `f64`; with `libm`'s `expf` for `f32`.
+    fn untransform(transform: Transform, z: Self) -> Self;
+    /// Whether the estimator keeps a converted copy of the parameters in its state.
+    #[doc(hidden)]
+    const COPIES_PARAMETERS: bool;
+    /// The words the kernels read: `bytes` (a section of the model file) as words for `f64`,
+    /// `copy` (the same section converted) for `f32`.
+    #[doc(hidden)]
+    fn words<'a>(bytes: &'a [u8], copy: &'a [Self]) -> &'a [Self::Word];
+}
+
+/// A model parameter as the per-sample kernels read it ([`Real::Word`]).
+#[doc(hidden)]
+pub trait Word<T>: Copy + core::fmt::Debug {
+    /// The parameter's value.
+    fn get(self) -> T;
+}
+
+impl Word<f64> for [u8; 8] {
+    #[inline(always)]
+    fn get(self) -> f64 {
+        f64::from_le_bytes(self)
+    }
+}
+
+impl Word<f32> for f32 {
+    #[inline(always)]
+    fn get(self) -> f32 {
+        self
+    }
 }
 
 impl Real for f64 {
@@ -72,6 +110,14 @@ impl Real for f64 {
         // Truncates on 32-bit targets; the caller range-checks the result anyway.
         self.to_bits() as usize
     }
+    fn untransform(transform: Transform, z: Self) -> Self {
+        transform.inverse(z)
+    }
+    type Word = [u8; 8];
+    const COPIES_PARAMETERS: bool = false;
+    fn words<'a>(bytes: &'a [u8], _copy: &'a [Self]) -> &'a [[u8; 8]] {
+        bytes.as_chunks::<8>().0
+    }
 }
 
 impl Real for f32 {
@@ -101,6 +147,27 @@ impl Real for f32 {
     }
     fn to_index(self) -> usize {
         self.to_bits() as usize
+    }
+    fn untransform(transform: Transform, z: Self) -> Self {
+        // As `Transform::inverse`, in single precision.
+        match transform {
+            Transform::Identity => z,
+            Transform::Log => libm::expf(z),
+            Transform::Logit { full_scale } => {
+                let full_scale = full_scale as f32;
+                if z >= 0.0 {
+                    full_scale / (1.0 + libm::expf(-z))
+                } else {
+                    let e = libm::expf(z);
+                    full_scale * e / (1.0 + e)
+                }
+            }
+        }
+    }
+    type Word = f32;
+    const COPIES_PARAMETERS: bool = true;
+    fn words<'a>(_bytes: &'a [u8], copy: &'a [Self]) -> &'a [f32] {
+        copy
     }
 }
 

@@ -7,7 +7,9 @@
 mod tiny;
 
 use proptest::prelude::*;
-use regimix_runtime::{state_words, Estimator, LabOutcome, ModelView, Status};
+use regimix_runtime::{
+    state_words, state_words_for, Estimator, InitError, LabOutcome, ModelView, Status,
+};
 
 fn bytes() -> Vec<u8> {
     tiny::tiny_model().to_bytes().expect("encode")
@@ -181,7 +183,7 @@ fn f32_path_agrees_with_f64() {
     let b = bytes();
     let model = ModelView::parse(&b).expect("valid");
     let mut s64 = vec![0.0f64; state_words(&model)];
-    let mut s32 = vec![0.0f32; state_words(&model)];
+    let mut s32 = vec![0.0f32; state_words_for::<f32>(&model)];
     let mut e64 = Estimator::new(model, &mut s64).expect("state");
     let mut e32 = Estimator::new(model, &mut s32).expect("state");
     for k in 0..2000 {
@@ -204,6 +206,20 @@ fn too_small_state_is_an_error() {
     let model = ModelView::parse(&b).expect("valid");
     let mut state = vec![0.0f64; state_words(&model) - 1];
     assert!(Estimator::new(model, &mut state).is_err());
+    // An f32 estimator also keeps its parameters, converted once, in the state: the f64 count
+    // is too small for it, and the error says what it needs.
+    let needed = state_words_for::<f32>(&model);
+    assert_eq!(state_words_for::<f64>(&model), state_words(&model));
+    assert!(needed > state_words(&model));
+    let mut s32 = vec![0.0f32; state_words(&model)];
+    match Estimator::new(model, &mut s32) {
+        Err(InitError::StateTooSmall { needed: n, given }) => {
+            assert_eq!((n, given), (needed, state_words(&model)));
+        }
+        other => panic!("{other:?}"),
+    }
+    let mut s32 = vec![0.0f32; needed];
+    assert!(Estimator::new(model, &mut s32).is_ok());
 }
 
 proptest! {

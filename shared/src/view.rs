@@ -611,8 +611,13 @@ impl<'a> ModelView<'a> {
     #[inline]
     pub fn regime_pairs(&self) -> core::slice::ChunksExact<'a, u8> {
         let len = regime_len(self.n_antecedent, self.n_regressors);
+        self.regime_section().chunks_exact(2 * len.max(1))
+    }
+    /// Section F whole: the blocks of [`regime_pairs`](Self::regime_pairs) back to back.
+    #[inline]
+    pub fn regime_section(&self) -> &'a [u8] {
+        let len = regime_len(self.n_antecedent, self.n_regressors);
         self.section(self.regimes, 2 * len * self.n_regimes.div_ceil(2))
-            .chunks_exact(2 * len.max(1))
     }
     #[inline]
     fn section(&self, start: usize, len: usize) -> &'a [u8] {

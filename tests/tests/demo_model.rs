@@ -4,7 +4,7 @@
 use regimix_builder::build::build;
 use regimix_builder::config::Config;
 use regimix_builder::replay::replay;
-use regimix_runtime::{state_words, Estimator, ModelView, Status};
+use regimix_runtime::{state_words, state_words_for, Estimator, ModelView, Status};
 use regimix_tests::workspace_root;
 
 #[test]
@@ -30,7 +30,8 @@ fn demo_model_replays_identically_and_f32_stays_close() {
     let model = ModelView::parse(&built.bytes).expect("valid");
     let words = state_words(&model);
     assert!(8 * words <= 2048, "f64 state {} bytes", 8 * words);
-    let mut s32 = vec![0.0f32; words];
+    let words32 = state_words_for::<f32>(&model);
+    let mut s32 = vec![0.0f32; words32];
     let mut e32 = Estimator::new(model, &mut s32).expect("state");
     let mut worst: f64 = 0.0;
     let mut compared = 0;
@@ -46,7 +47,7 @@ fn demo_model_replays_identically_and_f32_stays_close() {
             compared += 1;
         }
     }
-    eprintln!("f32 vs f64 on the demo model: largest relative deviation {worst:.3e} over {compared} samples; state {words} words");
+    eprintln!("f32 vs f64 on the demo model: largest relative deviation {worst:.3e} over {compared} samples; state {words} words in f64, {words32} in f32");
     assert!(compared > 20_000);
     assert!(worst < 1e-3, "f32 deviation {worst}");
 }
