@@ -93,10 +93,13 @@ fn demo_build_writes_everything_and_beats_the_linear_model() {
         text.contains(&format!("(format {version}, builder ")),
         "{text}"
     );
+    let words32 = json["state_words_f32"].as_u64().expect("f32 state words");
+    assert!(words32 > words, "the f32 state also holds the parameters");
     assert!(
         text.contains(&format!(
-            "runtime state: {words} words ({} bytes in f64",
-            8 * words
+            "runtime state: {words} words ({} bytes) in f64; {words32} words ({} bytes) in f32",
+            8 * words,
+            4 * words32
         )),
         "{text}"
     );

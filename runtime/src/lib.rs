@@ -2,7 +2,8 @@
 //!
 //! `#![no_std]` without `alloc`. A model is a validated view over the bytes of a model file
 //! ([`ModelView`]); the estimator's state lives in a slice the caller provides, sized by
-//! [`state_words`]. Per sample: inputs in, an [`Estimate`] out, with [`Status`] flags, the largest
+//! [`state_words`] (`f64`) or [`state_words_for`] (an `f32` estimator also keeps the parameters
+//! there, converted once, so that a single-precision FPU converts none per step). Per sample: inputs in, an [`Estimate`] out, with [`Status`] flags, the largest
 //! typicality and the dominant regime; [`Estimator::weights`] gives every regime's weight. Lab
 //! results are fed back with [`Estimator::lab_result`]. The estimator runs in `f64` or, for
 //! controllers with a single-precision FPU, in `f32` (see [`Real`]).

@@ -42,6 +42,8 @@ struct Summary {
     outlier_k: f64,
     estimate_range: (f64, f64),
     state_words: usize,
+    /// An f32 estimator's words: it also keeps the parameters converted to f32.
+    state_words_f32: usize,
     regimes: Vec<RegimeDynamics>,
 }
 
@@ -92,6 +94,7 @@ fn summary(m: &ModelView<'_>) -> Summary {
         outlier_k: t.outlier_k,
         estimate_range: (t.low, t.high),
         state_words: regimix_runtime::state_words(m),
+        state_words_f32: regimix_runtime::state_words_for::<f32>(m),
         regimes: regime_dynamics(m),
     }
 }
@@ -181,10 +184,11 @@ pub fn run(path: &Path, json: bool) -> anyhow::Result<()> {
         sig(s.domain_threshold)
     );
     println!(
-        "  runtime state: {} words ({} bytes in f64, {} in f32)",
+        "  runtime state: {} words ({} bytes) in f64; {} words ({} bytes) in f32, with the parameters converted once",
         s.state_words,
         8 * s.state_words,
-        4 * s.state_words
+        s.state_words_f32,
+        4 * s.state_words_f32
     );
     let w = tag_column_width(s.inputs.iter().map(|i| i.tag.as_str()));
     println!("\nInputs");
