@@ -390,6 +390,47 @@ fn a_held_analyzer_is_fitted_on_its_fresh_readings() {
     let csv = std::fs::read_to_string(dir.path().join("o/validation.csv")).expect("csv");
     let fresh = csv.lines().filter(|l| l.ends_with(",1")).count();
     assert_eq!(fresh, readings, "rows marked as fresh readings");
+    assert!(!notes.contains("interpolated"), "{notes}");
+}
+
+/// The small plant's analyzer read every 5 samples and exported interpolated in between (a
+/// historian's interpolated retrieval, rounded to 4 decimals): `check` warns, naming the
+/// interval, and `build` repeats it as a note. The same readings held (above) raise neither.
+#[test]
+fn an_interpolated_analyzer_export_is_pointed_out() {
+    let dir = tempfile::tempdir().expect("tempdir");
+    small_plant(dir.path(), |_, _| {});
+    let text = std::fs::read_to_string(dir.path().join("plant.csv")).expect("csv");
+    let mut rows: Vec<Vec<String>> = text
+        .lines()
+        .skip(1)
+        .map(|l| l.split(',').map(str::to_string).collect())
+        .collect();
+    let y: Vec<f64> = rows.iter().map(|r| r[3].parse().expect("y")).collect();
+    for (k, row) in rows.iter_mut().enumerate() {
+        let (a, b) = (k / 5 * 5, (k / 5 + 1) * 5);
+        let next = y.get(b).copied().unwrap_or(y[a]);
+        row[3] = format!("{:.4}", y[a] + (k - a) as f64 / 5.0 * (next - y[a]));
+    }
+    let body: Vec<String> = rows.iter().map(|r| r.join(",")).collect();
+    write(
+        dir.path(),
+        "plant.csv",
+        &format!("time,X1,X2,Y\n{}\n", body.join("\n")),
+    );
+    write(dir.path(), "c.yaml", SMALL);
+    let expected = "Y looks interpolated between analyzer readings about every 5min";
+    let check = regimix(dir.path(), &["check", "c.yaml"]);
+    assert!(check.status.success());
+    let audit = String::from_utf8_lossy(&check.stdout);
+    assert!(audit.contains(expected), "{audit}");
+    let json = regimix(dir.path(), &["check", "c.yaml", "--json"]);
+    let json: serde_json::Value = serde_json::from_slice(&json.stdout).expect("json");
+    assert_eq!(json["target"]["interpolated_every"], "5min");
+    let r = regimix(dir.path(), &["build", "c.yaml", "--out", "o"]);
+    assert!(r.status.success(), "{}", String::from_utf8_lossy(&r.stderr));
+    let stdout = String::from_utf8_lossy(&r.stdout);
+    assert!(stdout.contains(&format!("note: {expected}")), "{stdout}");
 }
 
 /// The small plant responds to X1 over about ten samples (y(k) = 0.9·y(k−1) + …). Searched only

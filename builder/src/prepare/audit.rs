@@ -220,6 +220,9 @@ pub struct TargetAudit {
     /// Fresh readings among the usable samples: what `build` fits and scores
     /// ([`Dataset::fresh_target_model`]; all of them unless an analyzer's readings are held).
     pub fresh_readings: usize,
+    /// Analyzer targets: the interval between readings when the export interpolated between
+    /// them ([`Dataset::target_interpolated_samples`]), e.g. `5min`; `None` otherwise.
+    pub interpolated_every: Option<String>,
 }
 
 /// Everything `check` reports.
@@ -323,6 +326,7 @@ impl Audit {
                     .zip(&dataset.target_status)
                     .filter(|(v, s)| v.is_finite() && **s == CellStatus::Valid)
                     .count(),
+                interpolated_every: interpolated_every(config, dataset),
             },
             tags,
             warnings: Vec::new(),
@@ -478,6 +482,22 @@ pub const MIN_TARGET_SAMPLES: usize = 30;
 /// Distinct quality-marker texts listed per tag in the text audit.
 const MARKER_TEXTS: usize = 8;
 
+/// The interval between an analyzer's readings when the export interpolated between them.
+pub fn interpolated_every(config: &Config, dataset: &Dataset) -> Option<String> {
+    if config.target.source != TargetSource::Analyzer {
+        return None;
+    }
+    let cycle = dataset.target_interpolated_samples()?;
+    Some(Span::from_micros(cycle as i64 * config.sample_time.micros()).to_string())
+}
+
+/// What to do about an interpolated analyzer export (a warning in `check`, a note in `build`).
+pub fn interpolated_warning(tag: &str, every: &str) -> String {
+    format!(
+        "{tag} looks interpolated between analyzer readings about every {every} (most samples that move lie on straight lines between kinks that many samples apart): an interpolated sample depends on the next reading, which the sensor will not have online, so the validation would look better than the sensor runs; export the readings held until the next (the historian's \"previous value\" or step retrieval) instead"
+    )
+}
+
 fn warnings(config: &Config, audit: &Audit, median: Option<i64>) -> Vec<String> {
     let mut out = Vec::new();
     // A wrong decimal mark turns whole columns into text: one warning per setting, first, and
@@ -537,6 +557,9 @@ fn warnings(config: &Config, audit: &Audit, median: Option<i64>) -> Vec<String> 
                 Rfc3339(at)
             ));
         }
+    }
+    if let Some(every) = &audit.target.interpolated_every {
+        out.push(interpolated_warning(&config.target.spec.tag, every));
     }
     if audit.duplicate_rows > 0 {
         out.push(format!(

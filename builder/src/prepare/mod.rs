@@ -109,6 +109,63 @@ impl Dataset {
         runs.get(runs.len() / 2).copied().filter(|&m| m >= 2)
     }
 
+    /// Grid samples between an analyzer's readings when the export interpolated linearly between
+    /// them (a historian's "interpolated" retrieval): most samples that move lie on a straight
+    /// line through their neighbours (within the export's rounding), and the kinks where the
+    /// slope changes — the readings — fall a whole number of cycles apart. `None` when the target
+    /// does not look so. An interpolated sample depends on the next reading, which the sensor
+    /// will not have online.
+    pub fn target_interpolated_samples(&self) -> Option<usize> {
+        let valid = |k: usize| {
+            (self.target_status.get(k) == Some(&CellStatus::Valid))
+                .then(|| self.target[k])
+                .filter(|v| v.is_finite())
+        };
+        let tolerance =
+            2.5 * export_resolution(self.target.iter().copied().filter(|v| v.is_finite()))?;
+        let (mut moving, mut straight) = (0usize, 0usize);
+        let mut kinks = Vec::new();
+        for k in 1..self.target.len().saturating_sub(1) {
+            let (Some(a), Some(b), Some(c)) = (valid(k - 1), valid(k), valid(k + 1)) else {
+                continue;
+            };
+            if a == b && b == c {
+                continue; // steady or held: says nothing
+            }
+            moving += 1;
+            if (c - 2.0 * b + a).abs() <= tolerance {
+                straight += 1;
+            } else {
+                kinks.push(k);
+            }
+        }
+        if moving < 50 || 2 * straight < moving {
+            return None;
+        }
+        let mut gaps: Vec<usize> = kinks.windows(2).map(|w| w[1] - w[0]).collect();
+        if gaps.len() < 10 {
+            return None;
+        }
+        gaps.sort_unstable();
+        // The cycle: the most common gap (a reading that continues the slope leaves out a kink,
+        // so longer gaps are its multiples).
+        let mut cycle = (0usize, 0usize);
+        for run in gaps.chunk_by(|a, b| a == b) {
+            if run.len() > cycle.1 {
+                cycle = (run[0], run.len());
+            }
+        }
+        let cycle = cycle.0;
+        let whole = gaps
+            .iter()
+            .filter(|&&g| {
+                let r = g % cycle.max(1);
+                r == 0 || r == 1 || r + 1 == cycle
+            })
+            .count();
+        (cycle >= 3 && 5 * whole >= 4 * gaps.len()).then_some(cycle)
+    }
+
     /// The model-domain target at its fresh readings only: a sample that repeats the reading
     /// before it is NaN, unless it lies a whole number of reading cycles into the run (a steady
     /// value the analyzer reports again). With a reading cycle of 1 this is `target_model`.
@@ -389,6 +446,26 @@ fn looks_like_serial_dates(first: Micros, last: Micros) -> bool {
     (20_000 * SECOND..=80_000 * SECOND).contains(&first) && last - first < 86_400 * SECOND
 }
 
+/// The step of the decimal grid the values were written on (10^−d for the fewest decimals d ≤ 9
+/// that write them all), or a relative 1e-12 of their size when no such grid fits; `None` for no
+/// values. Samples at most 10,000 of them.
+fn export_resolution(values: impl Iterator<Item = f64>) -> Option<f64> {
+    let sample: Vec<f64> = values.take(10_000).collect();
+    let size = sample.iter().fold(0.0f64, |m, v| m.max(v.abs()));
+    if sample.is_empty() {
+        return None;
+    }
+    for d in 0..=9 {
+        let scale = 10f64.powi(d);
+        if sample.iter().all(|v| {
+            ((v * scale).round() - v * scale).abs() <= 1e-6 * (1.0 + (v * scale).abs() * 1e-9)
+        }) {
+            return Some(1.0 / scale);
+        }
+    }
+    Some(1e-12 * size.max(1e-300))
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -429,6 +506,62 @@ mod tests {
             transform: Transform::Identity,
             reading_cycle,
         }
+    }
+
+    /// Readings every 5 samples of a noisy process, exported interpolated (4 decimals), are
+    /// recognised with their cycle; the same readings held, the continuous process itself, and
+    /// a noise-free first-order response (smooth, so often nearly straight) are not.
+    #[test]
+    fn an_interpolated_analyzer_export_is_recognised() {
+        let n = 3000;
+        let mut seed = 11u64;
+        let mut noise = move || {
+            seed = seed
+                .wrapping_mul(6364136223846793005)
+                .wrapping_add(1442695040888963407);
+            (seed >> 11) as f64 / (1u64 << 53) as f64 - 0.5
+        };
+        let mut process = vec![0.0; n];
+        let mut smooth = vec![0.0; n];
+        let (mut y, mut z, mut u) = (2.0, 2.0, 2.0);
+        for k in 0..n {
+            if k % 150 == 0 {
+                u = 2.0 + 2.0 * noise();
+            }
+            y = 0.95 * y + 0.05 * u + 0.01 * noise();
+            z = 0.97 * z + 0.03 * u;
+            process[k] = y;
+            smooth[k] = z;
+        }
+        let round = |v: f64| (v * 1e4).round() / 1e4;
+        let cycle = 5;
+        let interpolated: Vec<f64> = (0..n)
+            .map(|k| {
+                let (a, b) = (k / cycle * cycle, (k / cycle + 1) * cycle);
+                let t = (k - a) as f64 / cycle as f64;
+                let next = process.get(b).copied().unwrap_or(process[a]);
+                round(process[a] + t * (next - process[a]))
+            })
+            .collect();
+        assert_eq!(
+            dataset(&interpolated, 1).target_interpolated_samples(),
+            Some(5)
+        );
+        let held: Vec<f64> = (0..n).map(|k| round(process[k / cycle * cycle])).collect();
+        assert_eq!(dataset(&held, 1).target_interpolated_samples(), None);
+        let continuous: Vec<f64> = process.iter().map(|v| round(*v)).collect();
+        assert_eq!(dataset(&continuous, 1).target_interpolated_samples(), None);
+        let smooth: Vec<f64> = smooth.iter().map(|v| round(*v)).collect();
+        assert_eq!(dataset(&smooth, 1).target_interpolated_samples(), None);
+    }
+
+    #[test]
+    fn the_export_resolution_is_the_decimal_grid() {
+        assert_eq!(export_resolution([1.25, 3.5, 0.75].into_iter()), Some(0.01));
+        assert_eq!(export_resolution([12.0, 7.0].into_iter()), Some(1.0));
+        let r = export_resolution([1.0 / 3.0, 2.0].into_iter()).expect("some");
+        assert!(r < 1e-9, "{r}");
+        assert_eq!(export_resolution(std::iter::empty()), None);
     }
 
     /// An analyzer read every third sample: its cycle is found, the held repeats are dropped, a
