@@ -875,13 +875,16 @@ const LANES: usize = if cfg!(any(target_arch = "x86_64", target_arch = "aarch64"
 };
 
 /// ‖F (x − c)‖² of `L` regimes in lockstep whose words lie two words apart in `words` (lane
-/// `l`'s word `k` at byte `8·(2k + l)`, as in a block of section F): c first, then F's rows
+/// `l`'s word `k` at word `2k + l`, as in a block of section F): c first, then F's rows
 /// packed (NaN if too short).
 #[inline(always)]
 fn distance<T: Real, const P: usize, const L: usize>(
     words: &[T::Word],
     x: &[T; MAX_ANTECEDENT],
 ) -> [T; L] {
+    if L == 1 {
+        return [distance_one::<T, P>(words, x); L];
+    }
     let mut total = [T::NAN; L];
     let Some(geometry) = words.get(..2 * (P + P * (P + 1) / 2 - 1) + L) else {
         return total;
@@ -915,6 +918,31 @@ fn distance<T: Real, const P: usize, const L: usize>(
             };
         }
         at += row + 1;
+    }
+    total
+}
+
+/// [`distance`] for one regime (a Cortex-M4F's kernels): its words are the first of each pair
+/// of `words`. Written over slices of known length, so that where the loops stay rolled (at
+/// opt-level "s") no word read needs a bounds check, and with no array to clear per regime.
+#[inline(always)]
+fn distance_one<T: Real, const P: usize>(words: &[T::Word], x: &[T; MAX_ANTECEDENT]) -> T {
+    let Some(geometry) = words.get(..2 * (P + P * (P + 1) / 2)) else {
+        return T::NAN;
+    };
+    let (pairs, _) = geometry.as_chunks::<2>();
+    let (center, mut rows) = pairs.split_at(P.min(pairs.len()));
+    let diff: [T; P] =
+        core::array::from_fn(|a| center.get(a).map_or(T::NAN, |w| x[a] - w[0].get()));
+    let mut total = T::ZERO;
+    for row in 0..P {
+        let (factor, rest) = rows.split_at((row + 1).min(rows.len()));
+        rows = rest;
+        // Sums start from their first term (see `distance`).
+        let mut terms = factor.iter().zip(&diff).map(|(w, d)| w[0].get() * *d);
+        let first = terms.next().unwrap_or(T::NAN);
+        let y = terms.fold(first, |y, t| y + t);
+        total = if row == 0 { y * y } else { total + y * y };
     }
     total
 }
