@@ -13,7 +13,7 @@
 //! of the training error.
 
 use super::design::{Regressors, Term};
-use super::stepwise::{blocks, mean_squared_error, predict, Selection, StructureParams};
+use super::stepwise::{blocks, mean_squared_error, predict, Blocks, Selection, StructureParams};
 use super::wls::{accumulate, solve};
 
 /// One input's ranking.
@@ -30,7 +30,7 @@ pub struct Ranked {
 /// regime).
 const SAMPLES_PER_PARAMETER: f64 = 5.0;
 
-/// Screens `candidates` (input indices) against `linear`, the one-regime selection found with
+/// Ranks `candidates` (input indices) against `linear`, the one-regime selection found with
 /// `params` on `target` (model domain, NaN where not fitted). Returns the inputs that could be
 /// scored (ranges with data enough for the structure), best first.
 pub fn rank_inputs(
@@ -135,7 +135,7 @@ fn ranged_mse(
     linear: &Selection,
     regressors: Regressors<'_>,
     target: &[f64],
-    split: &super::stepwise::Blocks,
+    split: &Blocks,
     weights: &[Vec<f64>],
 ) -> Option<f64> {
     let terms: &[Term] = &linear.terms;
