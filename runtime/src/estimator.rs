@@ -819,16 +819,17 @@ fn consequents<T: Real, const L: usize>(
     let tail = groups.remainder();
     let chunks = values.chunks_exact(4);
     let remainder = chunks.remainder();
+    // Zipped, not indexed: where the loops stay rolled (opt-level "s") no read needs a check.
     for (vs, cs) in chunks.zip(groups) {
-        for (k, (a, v)) in acc.iter_mut().zip(vs).enumerate() {
-            for (lane, a) in a.iter_mut().enumerate() {
-                *a = *a + cs[L * k + lane].get() * *v;
+        for ((a, v), ws) in acc.iter_mut().zip(vs).zip(cs.chunks_exact(L)) {
+            for (a, w) in a.iter_mut().zip(ws) {
+                *a = *a + w.get() * *v;
             }
         }
     }
-    for (v, cs) in remainder.iter().zip(tail.chunks_exact(L)) {
-        for (lane, a) in acc[0].iter_mut().enumerate() {
-            *a = *a + cs[lane].get() * *v;
+    for (v, ws) in remainder.iter().zip(tail.chunks_exact(L)) {
+        for (a, w) in acc[0].iter_mut().zip(ws) {
+            *a = *a + w.get() * *v;
         }
     }
     let eta = core::array::from_fn(|lane| head[lane].get());
