@@ -719,6 +719,26 @@ fn a_closed_stdout_is_not_an_error() {
     assert!(dir.path().join("o/model.rgmx").exists());
 }
 
+/// Config of the four-input plants below (`plant.csv` with X1 … X4 and Y), regimes unset.
+const FOUR_INPUTS: &str = "
+data: { files: [plant.csv], timestamp: time }
+sample-time: 1min
+target: { tag: Y, source: analyzer }
+inputs: [{ tag: X1 }, { tag: X2 }, { tag: X3 }, { tag: X4 }]
+structure: { max-lag: 5min }
+";
+
+/// Builds the config `name` in `dir` into `{name}.out`: the test RMSE over the linear model's,
+/// and `summary.json`'s text.
+fn rmse_ratio(dir: &std::path::Path, name: &str) -> (f64, String) {
+    let out = format!("{name}.out");
+    let r = regimix(dir, &["build", name, "--out", &out, "--quiet"]);
+    assert!(r.status.success(), "{}", String::from_utf8_lossy(&r.stderr));
+    let text = std::fs::read_to_string(dir.join(&out).join("summary.json")).expect("summary");
+    let json: serde_json::Value = serde_json::from_str(&text).expect("json");
+    (json["rmse_ratio"].as_f64().expect("ratio"), text)
+}
+
 /// A plant whose target follows X1 nonlinearly, with three inputs that carry nothing (noise and a
 /// slow drift): by default the regimes are found again on the inputs the structure uses (X1), the
 /// build says so, and the test error is lower than with the regimes on all four inputs.
@@ -743,30 +763,14 @@ fn regimes_move_to_the_inputs_the_model_uses() {
         ));
     }
     write(dir.path(), "plant.csv", &csv);
-    let config = "
-data: { files: [plant.csv], timestamp: time }
-sample-time: 1min
-target: { tag: Y, source: analyzer }
-inputs: [{ tag: X1 }, { tag: X2 }, { tag: X3 }, { tag: X4 }]
-structure: { max-lag: 5min }
-";
-    write(dir.path(), "auto.yaml", config);
+    write(dir.path(), "auto.yaml", FOUR_INPUTS);
     write(
         dir.path(),
         "all.yaml",
-        &format!("{config}regimes: {{ variables: [X1, X2, X3, X4] }}\n"),
+        &format!("{FOUR_INPUTS}regimes: {{ variables: [X1, X2, X3, X4] }}\n"),
     );
-    let ratio = |name: &str| -> (f64, String) {
-        let out = format!("{name}.out");
-        let r = regimix(dir.path(), &["build", name, "--out", &out, "--quiet"]);
-        assert!(r.status.success(), "{}", String::from_utf8_lossy(&r.stderr));
-        let text =
-            std::fs::read_to_string(dir.path().join(&out).join("summary.json")).expect("summary");
-        let json: serde_json::Value = serde_json::from_str(&text).expect("json");
-        (json["rmse_ratio"].as_f64().expect("ratio"), text)
-    };
-    let (auto, summary) = ratio("auto.yaml");
-    let (all, _) = ratio("all.yaml");
+    let (auto, summary) = rmse_ratio(dir.path(), "auto.yaml");
+    let (all, _) = rmse_ratio(dir.path(), "all.yaml");
     assert!(
         summary
             .contains("the regimes are scheduled on the inputs the model uses (X1), not on all 4"),
@@ -810,30 +814,14 @@ fn regimes_move_to_the_input_the_dynamics_change_with() {
         ));
     }
     write(dir.path(), "plant.csv", &csv);
-    let config = "
-data: { files: [plant.csv], timestamp: time }
-sample-time: 1min
-target: { tag: Y, source: analyzer }
-inputs: [{ tag: X1 }, { tag: X2 }, { tag: X3 }, { tag: X4 }]
-structure: { max-lag: 5min }
-";
-    write(dir.path(), "auto.yaml", config);
+    write(dir.path(), "auto.yaml", FOUR_INPUTS);
     write(
         dir.path(),
         "x1.yaml",
-        &format!("{config}regimes: {{ variables: [X1] }}\n"),
+        &format!("{FOUR_INPUTS}regimes: {{ variables: [X1] }}\n"),
     );
-    let build = |name: &str| -> (f64, String) {
-        let out = format!("{name}.out");
-        let r = regimix(dir.path(), &["build", name, "--out", &out, "--quiet"]);
-        assert!(r.status.success(), "{}", String::from_utf8_lossy(&r.stderr));
-        let text =
-            std::fs::read_to_string(dir.path().join(&out).join("summary.json")).expect("summary");
-        let json: serde_json::Value = serde_json::from_str(&text).expect("json");
-        (json["rmse_ratio"].as_f64().expect("ratio"), text)
-    };
-    let (auto, summary) = build("auto.yaml");
-    let (x1, _) = build("x1.yaml");
+    let (auto, summary) = rmse_ratio(dir.path(), "auto.yaml");
+    let (x1, _) = rmse_ratio(dir.path(), "x1.yaml");
     assert!(
         summary.contains(
             "the regimes are scheduled on X3, where one linear model's behaviour changes most"
