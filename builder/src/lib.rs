@@ -21,3 +21,6 @@ pub mod replay;
 pub mod report;
 pub mod suggest;
 pub mod timestamp;
+
+#[cfg(test)]
+mod test_support;

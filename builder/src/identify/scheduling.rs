@@ -172,17 +172,7 @@ fn ranged_mse(
 mod tests {
     use super::*;
     use crate::identify::stepwise::select;
-
-    /// A deterministic pseudo-random sequence in [−1, 1) (64-bit LCG, Knuth's MMIX constants).
-    fn noise(seed: u64) -> impl FnMut() -> f64 {
-        let mut s = seed;
-        move || {
-            s = s
-                .wrapping_mul(6364136223846793005)
-                .wrapping_add(1442695040888963407);
-            (s >> 11) as f64 / (1u64 << 52) as f64 - 1.0
-        }
-    }
+    use crate::test_support::Lcg;
 
     #[test]
     fn ranges_sum_to_one_and_follow_the_quantiles() {
@@ -210,7 +200,8 @@ mod tests {
     #[test]
     fn a_gain_that_changes_with_an_input_is_found() {
         let n = 4000;
-        let mut r = noise(7);
+        let mut rng = Lcg(7);
+        let mut r = move || rng.next();
         let (mut x, mut s) = (0.0, 0.5);
         let mut inputs = vec![vec![0.0; n], vec![0.0; n], vec![0.0; n]];
         let mut y = vec![0.0; n];

@@ -514,13 +514,8 @@ mod tests {
     #[test]
     fn an_interpolated_analyzer_export_is_recognised() {
         let n = 3000;
-        let mut seed = 11u64;
-        let mut noise = move || {
-            seed = seed
-                .wrapping_mul(6364136223846793005)
-                .wrapping_add(1442695040888963407);
-            (seed >> 11) as f64 / (1u64 << 53) as f64 - 0.5
-        };
+        let mut rng = crate::test_support::Lcg(11);
+        let mut noise = move || 0.5 * rng.next();
         let mut process = vec![0.0; n];
         let mut smooth = vec![0.0; n];
         let (mut y, mut z, mut u) = (2.0, 2.0, 2.0);

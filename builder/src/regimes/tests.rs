@@ -3,17 +3,7 @@ use super::kernel::Columns;
 use super::validity::{choose_count, sweep};
 use super::*;
 
-/// Deterministic pseudo-random numbers in [-1, 1) for synthetic test data.
-struct Lcg(u64);
-impl Lcg {
-    fn next(&mut self) -> f64 {
-        self.0 = self
-            .0
-            .wrapping_mul(6_364_136_223_846_793_005)
-            .wrapping_add(1_442_695_040_888_963_407);
-        ((self.0 >> 11) as f64 / (1u64 << 53) as f64) * 2.0 - 1.0
-    }
-}
+use crate::test_support::Lcg;
 
 /// A static, continuous piecewise-linear process y(x) on [0, len(slopes)] with one regime per
 /// unit interval, sampled with small noise; product space (x, y), scaled.
