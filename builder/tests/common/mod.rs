@@ -11,20 +11,11 @@ pub fn stamp(minute: usize) -> String {
     format!("2026-03-{day:02} {:02}:{:02}:00", m / 60, m % 60)
 }
 
-/// A small deterministic pseudo-random sequence in [-1, 1) (a linear congruential generator;
-/// test data only).
-pub struct Lcg(pub u64);
-
-impl Lcg {
-    /// Next value in [-1, 1).
-    pub fn next(&mut self) -> f64 {
-        self.0 = self
-            .0
-            .wrapping_mul(6_364_136_223_846_793_005)
-            .wrapping_add(1_442_695_040_888_963_407);
-        ((self.0 >> 11) as f64 / (1u64 << 53) as f64) * 2.0 - 1.0
-    }
-}
+/// The unit tests' pseudo-random generator, for test data.
+#[path = "../../src/test_support.rs"]
+mod test_support;
+#[allow(unused_imports)] // not every test file draws test data
+pub use test_support::Lcg;
 
 /// Writes `text` to `dir/name`, returning the path.
 pub fn write(dir: &Path, name: &str, text: &str) -> PathBuf {
