@@ -205,8 +205,8 @@ struct Hot<'h, T: Real> {
 
 impl<'h, T: Real> Hot<'h, T> {
     /// The hot fields of `model`, its parameters read from `copy` (the converted sections C
-    /// and F, for `f32`) or from the file itself (`f64`).
-    fn of(model: &ModelView<'h>, copy: &'h [T]) -> Self {
+    /// and F, for `f32`) or from the file itself (`f64`); `layout` is the model's [`Layout`].
+    fn of(model: &ModelView<'h>, layout: &Layout, copy: &'h [T]) -> Self {
         let (input_copy, regime_copy) =
             copy.split_at(copy.len().min(model.input_section().len() / 8));
         let block =
@@ -246,7 +246,7 @@ impl<'h, T: Real> Hot<'h, T> {
             target_high: T::from_f64(target_high),
             square: fuzziness == 2.0,
             exponent: T::from_f64(1.0 / (fuzziness - 1.0)),
-            warmup: T::from_f64(Layout::of(model).warmup as f64),
+            warmup: T::from_f64(layout.warmup as f64),
             count_cap: T::from_f64(COUNT_CAP),
             transform: model.transform(),
             threshold: T::from_f64(threshold),
@@ -272,7 +272,7 @@ impl<'m: 's, 's, T: Real> Estimator<'m, 's, T> {
             model,
             state,
             layout,
-            hot: Hot::of(&model, copy),
+            hot: Hot::of(&model, &layout, copy),
         };
         e.reset();
         Ok(e)
@@ -287,7 +287,7 @@ impl<'m: 's, 's, T: Real> Estimator<'m, 's, T> {
             model,
             state,
             layout,
-            hot: Hot::of(&model, copy),
+            hot: Hot::of(&model, &layout, copy),
         })
     }
 
