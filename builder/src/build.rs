@@ -248,9 +248,14 @@ pub fn build(config: &Config, progress: &dyn Fn(&str)) -> Result<Built, BuildErr
     let mut notes = Vec::new();
     notes.extend(reading_note(ds.reading_cycle, target_model, config));
     notes.extend(
-        crate::prepare::audit::interpolated_every(config, ds).map(|every| {
-            crate::prepare::audit::interpolated_warning(&config.target.spec.tag, &every)
-        }),
+        prepared
+            .audit
+            .target
+            .interpolated_every
+            .as_deref()
+            .map(|every| {
+                crate::prepare::audit::interpolated_warning(&config.target.spec.tag, every)
+            }),
     );
     let max = regimix_format::limits::MAX_ANTECEDENT;
     // One linear model says which inputs matter (the regimes start on those when there are more

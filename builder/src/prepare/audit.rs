@@ -483,7 +483,7 @@ pub const MIN_TARGET_SAMPLES: usize = 30;
 const MARKER_TEXTS: usize = 8;
 
 /// The interval between an analyzer's readings when the export interpolated between them.
-pub fn interpolated_every(config: &Config, dataset: &Dataset) -> Option<String> {
+fn interpolated_every(config: &Config, dataset: &Dataset) -> Option<String> {
     if config.target.source != TargetSource::Analyzer {
         return None;
     }
