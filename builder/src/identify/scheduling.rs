@@ -144,13 +144,8 @@ fn ranged_mse(
             *o = regressors.value(t, k);
         }
     };
-    let rows: Vec<usize> = split
-        .train
-        .iter()
-        .copied()
-        .filter(|&k| terms.iter().all(|&t| regressors.value(t, k).is_finite()))
-        .collect();
-    let grams = accumulate(&rows, terms.len(), &row, target, weights);
+    // The training rows have every candidate regressor valid, so every term of the structure.
+    let grams = accumulate(&split.train, terms.len(), &row, target, weights);
     let needed = SAMPLES_PER_PARAMETER * (terms.len() + 1) as f64;
     if grams.iter().any(|g| g.weight < needed) {
         return None;
