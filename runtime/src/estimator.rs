@@ -189,6 +189,8 @@ struct Hot<'h, T: Real> {
     nr: usize,
     c: usize,
     distances: DistanceKernel<T>,
+    /// Run `step`'s copy compiled for AVX ([`crate::wide`]); same results, fewer instructions.
+    wide: bool,
     /// The estimate's range (engineering units).
     target_low: T,
     target_high: T,
@@ -228,20 +230,8 @@ impl<'h, T: Real> Hot<'h, T> {
             p,
             nr: model.n_regressors().min(MAX_REGRESSORS),
             c: model.n_regimes().min(MAX_REGIMES),
-            distances: match p {
-                1 => distances_with::<T, 1, LANES>,
-                2 => distances_with::<T, 2, LANES>,
-                3 => distances_with::<T, 3, LANES>,
-                4 => distances_with::<T, 4, LANES>,
-                5 => distances_with::<T, 5, LANES>,
-                6 => distances_with::<T, 6, LANES>,
-                7 => distances_with::<T, 7, LANES>,
-                8 => distances_with::<T, 8, LANES>,
-                9 => distances_with::<T, 9, LANES>,
-                10 => distances_with::<T, 10, LANES>,
-                11 => distances_with::<T, 11, LANES>,
-                _ => distances_with::<T, 12, LANES>,
-            },
+            distances: kernel::<T>(p),
+            wide: cfg!(target_arch = "x86_64") && wide_available(),
             target_low: T::from_f64(target_low),
             target_high: T::from_f64(target_high),
             square: fuzziness == 2.0,
@@ -253,6 +243,59 @@ impl<'h, T: Real> Hot<'h, T> {
             hold: T::from_f64(f64::from(model.hold_limit())),
         }
     }
+}
+
+/// The distance kernel for `p` antecedent variables.
+fn kernel<T: Real>(p: usize) -> DistanceKernel<T> {
+    match p {
+        1 => distances_with::<T, 1, LANES>,
+        2 => distances_with::<T, 2, LANES>,
+        3 => distances_with::<T, 3, LANES>,
+        4 => distances_with::<T, 4, LANES>,
+        5 => distances_with::<T, 5, LANES>,
+        6 => distances_with::<T, 6, LANES>,
+        7 => distances_with::<T, 7, LANES>,
+        8 => distances_with::<T, 8, LANES>,
+        9 => distances_with::<T, 9, LANES>,
+        10 => distances_with::<T, 10, LANES>,
+        11 => distances_with::<T, 11, LANES>,
+        _ => distances_with::<T, 12, LANES>,
+    }
+}
+
+/// [`kernel`]'s choice made in line, so that the kernel compiles into its caller (the copy of
+/// `step` compiled for AVX).
+#[inline(always)]
+fn distances_in_line<T: Real>(
+    p: usize,
+    pairs: core::slice::ChunksExact<'_, T::Word>,
+    x: &[T; MAX_ANTECEDENT],
+    d2: &mut [T; MAX_REGIMES],
+) {
+    match p {
+        1 => distances_with::<T, 1, LANES>(pairs, x, d2),
+        2 => distances_with::<T, 2, LANES>(pairs, x, d2),
+        3 => distances_with::<T, 3, LANES>(pairs, x, d2),
+        4 => distances_with::<T, 4, LANES>(pairs, x, d2),
+        5 => distances_with::<T, 5, LANES>(pairs, x, d2),
+        6 => distances_with::<T, 6, LANES>(pairs, x, d2),
+        7 => distances_with::<T, 7, LANES>(pairs, x, d2),
+        8 => distances_with::<T, 8, LANES>(pairs, x, d2),
+        9 => distances_with::<T, 9, LANES>(pairs, x, d2),
+        10 => distances_with::<T, 10, LANES>(pairs, x, d2),
+        11 => distances_with::<T, 11, LANES>(pairs, x, d2),
+        _ => distances_with::<T, 12, LANES>(pairs, x, d2),
+    }
+}
+
+#[cfg(target_arch = "x86_64")]
+fn wide_available() -> bool {
+    crate::wide::avx()
+}
+
+#[cfg(not(target_arch = "x86_64"))]
+fn wide_available() -> bool {
+    false
 }
 
 impl<'m: 's, 's, T: Real> Estimator<'m, 's, T> {
@@ -391,6 +434,26 @@ impl<'m: 's, 's, T: Real> Estimator<'m, 's, T> {
 
     /// Processes one sample of inputs (engineering units, in model input order).
     pub fn step(&mut self, inputs: &[T]) -> Estimate<T> {
+        #[cfg(target_arch = "x86_64")]
+        if self.hot.wide {
+            // SAFETY: `wide` is set only where the processor has AVX ([`crate::wide::avx`]).
+            #[allow(unsafe_code)]
+            return unsafe { self.step_avx(inputs) };
+        }
+        self.step_with::<false>(inputs)
+    }
+
+    /// [`Self::step`] compiled for AVX: the same operations, so the same results.
+    #[cfg(target_arch = "x86_64")]
+    #[allow(unsafe_code)]
+    #[target_feature(enable = "avx")]
+    unsafe fn step_avx(&mut self, inputs: &[T]) -> Estimate<T> {
+        self.step_with::<true>(inputs)
+    }
+
+    /// [`Self::step`]; `WIDE` computes the distances in line (the AVX copy).
+    #[inline(always)]
+    fn step_with<const WIDE: bool>(&mut self, inputs: &[T]) -> Estimate<T> {
         let model = self.model;
         let n = model.n_inputs();
         let mut status = 0u16;
@@ -471,12 +534,12 @@ impl<'m: 's, 's, T: Real> Estimator<'m, 's, T> {
         // regimes' records.
         if first && model.uses_output_lags() {
             // Start the output history at the blended steady state (needs the memberships).
-            self.evaluate(&mut heads, &standardized);
+            self.evaluate_first(&mut heads, &standardized);
             let start = self.steady_state();
             let (ring, len) = self.layout.ring(OUTPUT);
             self.fill(ring, len, start);
         }
-        let (y, typicality, dominant) = self.evaluate(&mut heads, &standardized);
+        let (y, typicality, dominant) = self.evaluate::<WIDE>(&mut heads, &standardized);
         if !(typicality >= self.hot.threshold) {
             status |= Status::OUT_OF_DOMAIN;
         }
@@ -528,7 +591,14 @@ impl<'m: 's, 's, T: Real> Estimator<'m, 's, T> {
     /// input rings' heads after this sample's push and the inputs standardized, (x − mean) / std.
     /// Returns (blended model-domain estimate, largest typicality, dominant regime). The hot
     /// path: every model field is read straight from the validated bytes.
-    fn evaluate(&mut self, heads: &mut [u16; HEADS], standardized: &[T; MAX_INPUTS]) -> (T, T, u8) {
+    // In line where `step` has a copy compiled for AVX (so that this compiles into it);
+    // elsewhere, out of line as before (a Cortex-M4F's flash).
+    #[cfg_attr(target_arch = "x86_64", inline(always))]
+    fn evaluate<const WIDE: bool>(
+        &mut self,
+        heads: &mut [u16; HEADS],
+        standardized: &[T; MAX_INPUTS],
+    ) -> (T, T, u8) {
         let hot = &self.hot;
         let layout = &self.layout;
         let (p, nr, c) = (hot.p, hot.nr, hot.c);
@@ -569,7 +639,11 @@ impl<'m: 's, 's, T: Real> Estimator<'m, 's, T> {
 
         // Squared distances, then (in place) their reciprocals: u_i for fuzziness 2.
         let mut u = [T::ZERO; MAX_REGIMES];
-        (hot.distances)(hot.regimes.clone(), &scaled, &mut u);
+        if WIDE {
+            distances_in_line::<T>(p, hot.regimes.clone(), &scaled, &mut u);
+        } else {
+            (hot.distances)(hot.regimes.clone(), &scaled, &mut u);
+        }
         let mut local = [T::ZERO; MAX_REGIMES];
         let pass = regime_pass(hot.regimes.clone(), p, c, values, &mut u, &mut local);
 
@@ -608,6 +682,14 @@ impl<'m: 's, 's, T: Real> Estimator<'m, 's, T> {
             },
             dominant,
         )
+    }
+
+    /// [`Self::evaluate`] for a first sample (out of line where `evaluate` is in line: it runs
+    /// once).
+    #[cfg_attr(target_arch = "x86_64", inline(never))]
+    #[cfg_attr(not(target_arch = "x86_64"), inline(always))]
+    fn evaluate_first(&mut self, heads: &mut [u16; HEADS], standardized: &[T; MAX_INPUTS]) {
+        self.evaluate::<false>(heads, standardized);
     }
 
     fn regressor_value(&self, r: usize) -> T {
@@ -740,6 +822,7 @@ struct Pass<T> {
 /// ([`distances_with`]): per block, both regimes' consequents side by side ([`consequents`]),
 /// their d² floored at 1e-30 and replaced by its reciprocal and their d²/η; then, one regime at
 /// a time and in order, the smallest d², the smallest d²/η and the membership sums.
+#[cfg_attr(target_arch = "x86_64", inline(always))] // into `step`'s AVX copy
 fn regime_pass<T: Real>(
     pairs: core::slice::ChunksExact<'_, T::Word>,
     p: usize,
@@ -848,6 +931,7 @@ fn consequents<T: Real, const L: usize>(
 /// by side; with `L` = 1 one at a time. Every dimension up to `MAX_ANTECEDENT` gets its own
 /// copy (chosen once per sample), so the loops unroll and the byte-range checks fold into one
 /// per block: this is the hot spot of `step`.
+#[cfg_attr(target_arch = "x86_64", inline(always))] // into `step`'s AVX copy
 fn distances_with<T: Real, const P: usize, const L: usize>(
     pairs: core::slice::ChunksExact<'_, T::Word>,
     x: &[T; MAX_ANTECEDENT],
@@ -1174,6 +1258,158 @@ mod tests {
                 assert!((pass.inverse_blend - blend).abs() <= 1e-12 * blend.abs().max(1.0));
                 assert!(local[c..].iter().all(|l| l.is_nan()), "c = {c}: wrote past");
             }
+        }
+    }
+}
+
+/// The copy of `step` compiled for AVX against the baseline copy, on the same models and inputs.
+#[cfg(all(test, target_arch = "x86_64"))]
+mod wide_tests {
+    use super::*;
+    use regimix_format::encode::{InputSpec, ModelSpec, RegimeSpec};
+    use regimix_format::{InputSettings, TargetSettings};
+    use std::format;
+    use std::vec::Vec;
+
+    /// A model of `c` regimes over `p` of `n` inputs, with input lags up to 3 and, if
+    /// `feedback`, two output lags; irregular parameters so that a mixed-up word shows.
+    fn model(n: usize, p: usize, c: usize, fuzziness: f64, feedback: bool) -> Vec<u8> {
+        let wobble = |k: usize| ((k * 37 + 11) % 29) as f64 / 29.0 - 0.5;
+        let mut regressors: Vec<Regressor> = (0..2 * n)
+            .map(|k| Regressor {
+                source: Source::Input((k % n) as u8),
+                lag: (k / n * 3 + k % 2) as u16,
+            })
+            .collect();
+        if feedback {
+            regressors.extend((1..=2).map(|lag| Regressor {
+                source: Source::Output,
+                lag,
+            }));
+        }
+        let nr = regressors.len();
+        ModelSpec {
+            builder_version: "wide test".into(),
+            target_tag: "Y".into(),
+            target_unit: "%".into(),
+            sample_time: 60.0,
+            transform: Transform::Log,
+            target: TargetSettings {
+                full_scale: 1.0,
+                low: 1e-6,
+                high: 100.0,
+                fuzziness,
+                domain_threshold: 0.05,
+                residual_sd: 0.1,
+                bias_gain: 0.3,
+                bias_limit: 1.0,
+                outlier_k: 3.0,
+            },
+            hold_limit: 3,
+            lab_window: 10,
+            inputs: (0..n)
+                .map(|j| InputSpec {
+                    tag: format!("T{j}"),
+                    unit: "degC".into(),
+                    settings: InputSettings {
+                        low: 0.0,
+                        high: 200.0,
+                        mean: 100.0 + j as f64,
+                        std: 10.0 + wobble(j),
+                    },
+                })
+                .collect(),
+            regressors,
+            antecedent: (0..p as u16).collect(),
+            regimes: (0..c)
+                .map(|i| RegimeSpec {
+                    center: (0..p).map(|a| 2.0 * wobble(i * 13 + a)).collect(),
+                    factor: (0..p)
+                        .flat_map(|r| {
+                            (0..=r).map(move |k| {
+                                if r == k {
+                                    1.0 + wobble(i + r)
+                                } else {
+                                    0.2 * wobble(i * 7 + r * 3 + k)
+                                }
+                            })
+                        })
+                        .collect(),
+                    eta: 1.0 + wobble(i * 5).abs(),
+                    offset: 0.3 * wobble(i * 3),
+                    coefficients: (0..nr)
+                        .map(|k| 0.02 * wobble(i * 11 + k) / (1.0 + k as f64))
+                        .collect(),
+                })
+                .collect(),
+        }
+        .to_bytes()
+        .expect("encode")
+    }
+
+    /// Runs both copies side by side over `steps` samples and asserts identical bits.
+    fn same_bits<T: Real>(bytes: &[u8], steps: usize) {
+        let view = ModelView::parse(bytes).expect("valid");
+        let words = state_words_for::<T>(&view);
+        let (mut a, mut b) = (std::vec![T::ZERO; words], std::vec![T::ZERO; words]);
+        let mut wide = Estimator::new(view, &mut a).expect("state");
+        let mut narrow = Estimator::new(view, &mut b).expect("state");
+        wide.hot.wide = true;
+        narrow.hot.wide = false;
+        let n = view.n_inputs();
+        let mut seed = 0x2545_f491_4f6c_dd1du64;
+        for k in 0..steps {
+            let inputs: Vec<T> = (0..n)
+                .map(|j| {
+                    seed ^= seed << 13;
+                    seed ^= seed >> 7;
+                    seed ^= seed << 17;
+                    let r = (seed >> 11) as f64 / (1u64 << 53) as f64;
+                    // Mostly near the means, sometimes far out or invalid.
+                    let x = match seed % 50 {
+                        0 => f64::NAN,
+                        1 => 500.0,
+                        2 => 100.0 + 80.0 * (r - 0.5),
+                        _ => 100.0 + j as f64 + 25.0 * (r - 0.5) + 10.0 * (k as f64 * 0.05).sin(),
+                    };
+                    T::from_f64(x)
+                })
+                .collect();
+            let (x, y) = (wide.step(&inputs), narrow.step(&inputs));
+            let bits = |e: &Estimate<T>| {
+                (
+                    e.value.to_f64().to_bits(),
+                    e.model_value.to_f64().to_bits(),
+                    e.typicality.to_f64().to_bits(),
+                    e.status,
+                    e.dominant,
+                )
+            };
+            assert_eq!(bits(&x), bits(&y), "sample {k}");
+            let weights = |e: &Estimator<T>| -> Vec<u64> {
+                e.weights().iter().map(|w| w.to_f64().to_bits()).collect()
+            };
+            assert_eq!(weights(&wide), weights(&narrow), "sample {k}");
+        }
+    }
+
+    #[test]
+    fn the_avx_copy_gives_the_baseline_bits() {
+        if !crate::wide::avx() {
+            std::eprintln!("no AVX on this processor: only the baseline copy runs here");
+            return;
+        }
+        for (n, p, c, fuzziness, feedback) in [
+            (6, 6, 6, 2.0, false),
+            (6, 6, 5, 2.0, true),
+            (3, 1, 1, 2.0, true),
+            (4, 3, 2, 1.6, false),
+            (12, 12, 16, 2.0, true),
+            (9, 7, 3, 2.5, true),
+        ] {
+            let bytes = model(n, p, c, fuzziness, feedback);
+            same_bits::<f64>(&bytes, 3000);
+            same_bits::<f32>(&bytes, 3000);
         }
     }
 }

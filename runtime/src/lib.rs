@@ -31,6 +31,8 @@ mod estimator;
 pub mod ffi;
 mod real;
 mod status;
+#[cfg(target_arch = "x86_64")]
+mod wide;
 
 pub use estimator::{state_words, state_words_for, Estimate, Estimator, InitError};
 pub use real::Real;
