@@ -84,8 +84,8 @@
 #define RGX_E_STRING -10
 
 /*
- Sensor handle: the caller allocates it (e.g. on the stack or statically) and passes it to
- `rgx_init`; its fields are private to the library.
+ Sensor handle for an `f64` estimator: the caller allocates it (e.g. on the stack or
+ statically) and passes it to `rgx_init`; its fields are private to the library.
  */
 typedef struct RgxSensor {
   const uint8_t *model;
@@ -93,6 +93,17 @@ typedef struct RgxSensor {
   double *state;
   size_t state_words;
 } RgxSensor;
+
+/*
+ Sensor handle for an `f32` estimator (a controller with a single-precision FPU), set up by
+ `rgx_init_f32`; its fields are private to the library.
+ */
+typedef struct RgxSensorF32 {
+  const uint8_t *model;
+  size_t model_len;
+  float *state;
+  size_t state_words;
+} RgxSensorF32;
 
 /*
  One estimate.
@@ -121,12 +132,49 @@ typedef struct RgxEstimate {
 } RgxEstimate;
 
 /*
- Number of doubles of state the model needs. Validates the model (CRC included).
+ One estimate of an `f32` estimator (fields as in `RgxEstimate`).
+ */
+typedef struct RgxEstimateF32 {
+  /*
+   Estimate in engineering units.
+   */
+  float value;
+  /*
+   Raw model-domain estimate (NaN under fallback).
+   */
+  float model_value;
+  /*
+   Largest typicality over the regimes.
+   */
+  float typicality;
+  /*
+   Status flags (0 = good); bits as in the Rust `Status`.
+   */
+  uint16_t status;
+  /*
+   Regime with the largest weight (0-based).
+   */
+  uint8_t dominant;
+} RgxEstimateF32;
+
+/*
+ Number of doubles of state the model needs for `rgx_init`. Validates the model (CRC
+ included).
 
  # Safety
  `model` must point to `model_len` readable bytes; `words` must be writable.
  */
 int32_t rgx_state_words(const uint8_t *model, size_t model_len, size_t *words);
+
+/*
+ Number of floats of state the model needs for `rgx_init_f32` (more than `rgx_state_words`
+ counts: an `f32` sensor also keeps the model's parameters converted to `f32` there, so that a
+ single-precision FPU converts none per sample). Validates the model (CRC included).
+
+ # Safety
+ `model` must point to `model_len` readable bytes; `words` must be writable.
+ */
+int32_t rgx_state_words_f32(const uint8_t *model, size_t model_len, size_t *words);
 
 /*
  Validates the model (CRC included), checks the state size and resets the state.
@@ -142,6 +190,19 @@ int32_t rgx_init(struct RgxSensor *sensor,
                  size_t state_words);
 
 /*
+ `rgx_init` for an `f32` sensor: `state` holds `state_words` floats (`rgx_state_words_f32`).
+
+ # Safety
+ `sensor` must be writable; `model` must point to `model_len` bytes and `state` to
+ `state_words` floats, both valid and unchanged for as long as the sensor is used.
+ */
+int32_t rgx_init_f32(struct RgxSensorF32 *sensor,
+                     const uint8_t *model,
+                     size_t model_len,
+                     float *state,
+                     size_t state_words);
+
+/*
  Processes one sample: `inputs` holds `n_inputs` values in engineering units, in model order.
 
  # Safety
@@ -153,6 +214,17 @@ int32_t rgx_step(struct RgxSensor *sensor,
                  struct RgxEstimate *out);
 
 /*
+ `rgx_step` for an `f32` sensor.
+
+ # Safety
+ `sensor` as after `rgx_init_f32`; `inputs` must point to `n_inputs` floats; `out` writable.
+ */
+int32_t rgx_step_f32(struct RgxSensorF32 *sensor,
+                     const float *inputs,
+                     size_t n_inputs,
+                     struct RgxEstimateF32 *out);
+
+/*
  Copies the regime weights of the last estimate into `weights` (capacity `capacity`); writes
  the regime count to `count`.
 
@@ -160,6 +232,17 @@ int32_t rgx_step(struct RgxSensor *sensor,
  `sensor` as after `rgx_init`; `weights` must hold `capacity` doubles; `count` writable.
  */
 int32_t rgx_weights(struct RgxSensor *sensor, double *weights, size_t capacity, size_t *count);
+
+/*
+ `rgx_weights` for an `f32` sensor.
+
+ # Safety
+ `sensor` as after `rgx_init_f32`; `weights` must hold `capacity` floats; `count` writable.
+ */
+int32_t rgx_weights_f32(struct RgxSensorF32 *sensor,
+                        float *weights,
+                        size_t capacity,
+                        size_t *count);
 
 /*
  Feeds back a lab result (engineering units) for material sampled `age` samples ago.
@@ -170,5 +253,16 @@ int32_t rgx_weights(struct RgxSensor *sensor, double *weights, size_t capacity, 
  `sensor` as after `rgx_init`; `outcome` writable.
  */
 int32_t rgx_lab_result(struct RgxSensor *sensor, double value, uint16_t age, int32_t *outcome);
+
+/*
+ `rgx_lab_result` for an `f32` sensor.
+
+ # Safety
+ `sensor` as after `rgx_init_f32`; `outcome` writable.
+ */
+int32_t rgx_lab_result_f32(struct RgxSensorF32 *sensor,
+                           float value,
+                           uint16_t age,
+                           int32_t *outcome);
 
 #endif  /* REGIMIX_H */

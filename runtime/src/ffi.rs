@@ -3,13 +3,15 @@
 //!
 //! All memory belongs to the caller: the model bytes (kept alive and unchanged while the sensor
 //! is used), the state buffer of `rgx_state_words` doubles, and an `RgxSensor` handle whose fields
-//! are private to this library. Every function returns a status code: 0 on success, negative on
+//! are private to this library. Every function has an `_f32` twin for a controller with a
+//! single-precision FPU (`RgxSensorF32`, a state of `rgx_state_words_f32` floats), as the Rust
+//! `Estimator<f32>`. Every function returns a status code: 0 on success, negative on
 //! error (`-1 … -10` are model-file errors, see `RGX_E_*`). Nothing here panics or allocates.
 #![allow(unsafe_code)]
 
 use core::ptr;
 
-use crate::{state_words, Estimator, LabOutcome, ModelView};
+use crate::{state_words_for, Estimate, Estimator, LabOutcome, ModelView, Real};
 
 /// Success.
 pub const RGX_OK: i32 = 0;
@@ -58,14 +60,25 @@ pub const RGX_STATUS_WRONG_INPUT_COUNT: u16 = crate::Status::WRONG_INPUT_COUNT;
 /// Status bit: clipped to the target range.
 pub const RGX_STATUS_CLIPPED: u16 = crate::Status::CLIPPED;
 
-/// Sensor handle: the caller allocates it (e.g. on the stack or statically) and passes it to
-/// `rgx_init`; its fields are private to the library.
+/// Sensor handle for an `f64` estimator: the caller allocates it (e.g. on the stack or
+/// statically) and passes it to `rgx_init`; its fields are private to the library.
 #[repr(C)]
 #[derive(Debug)]
 pub struct RgxSensor {
     model: *const u8,
     model_len: usize,
     state: *mut f64,
+    state_words: usize,
+}
+
+/// Sensor handle for an `f32` estimator (a controller with a single-precision FPU), set up by
+/// `rgx_init_f32`; its fields are private to the library.
+#[repr(C)]
+#[derive(Debug)]
+pub struct RgxSensorF32 {
+    model: *const u8,
+    model_len: usize,
+    state: *mut f32,
     state_words: usize,
 }
 
@@ -85,25 +98,103 @@ pub struct RgxEstimate {
     pub dominant: u8,
 }
 
+/// One estimate of an `f32` estimator (fields as in `RgxEstimate`).
+#[repr(C)]
+#[derive(Debug, Clone, Copy)]
+pub struct RgxEstimateF32 {
+    /// Estimate in engineering units.
+    pub value: f32,
+    /// Raw model-domain estimate (NaN under fallback).
+    pub model_value: f32,
+    /// Largest typicality over the regimes.
+    pub typicality: f32,
+    /// Status flags (0 = good); bits as in the Rust `Status`.
+    pub status: u16,
+    /// Regime with the largest weight (0-based).
+    pub dominant: u8,
+}
+
 fn decode_code(e: crate::DecodeError) -> i32 {
     -e.code()
+}
+
+/// A handle of either precision: its stored pointers, and how it is filled and what it returns.
+trait Handle {
+    /// The estimator's precision.
+    type Float: Real;
+    /// The C estimate record.
+    type Out;
+    fn new(model: *const u8, model_len: usize, state: *mut Self::Float, words: usize) -> Self;
+    fn parts(&self) -> (*const u8, usize, *mut Self::Float, usize);
+    fn out(e: Estimate<Self::Float>) -> Self::Out;
+}
+
+impl Handle for RgxSensor {
+    type Float = f64;
+    type Out = RgxEstimate;
+    fn new(model: *const u8, model_len: usize, state: *mut f64, state_words: usize) -> Self {
+        RgxSensor {
+            model,
+            model_len,
+            state,
+            state_words,
+        }
+    }
+    fn parts(&self) -> (*const u8, usize, *mut f64, usize) {
+        (self.model, self.model_len, self.state, self.state_words)
+    }
+    fn out(e: Estimate<f64>) -> RgxEstimate {
+        RgxEstimate {
+            value: e.value,
+            model_value: e.model_value,
+            typicality: e.typicality,
+            status: e.status.0,
+            dominant: e.dominant,
+        }
+    }
+}
+
+impl Handle for RgxSensorF32 {
+    type Float = f32;
+    type Out = RgxEstimateF32;
+    fn new(model: *const u8, model_len: usize, state: *mut f32, state_words: usize) -> Self {
+        RgxSensorF32 {
+            model,
+            model_len,
+            state,
+            state_words,
+        }
+    }
+    fn parts(&self) -> (*const u8, usize, *mut f32, usize) {
+        (self.model, self.model_len, self.state, self.state_words)
+    }
+    fn out(e: Estimate<f32>) -> RgxEstimateF32 {
+        RgxEstimateF32 {
+            value: e.value,
+            model_value: e.model_value,
+            typicality: e.typicality,
+            status: e.status.0,
+            dominant: e.dominant,
+        }
+    }
 }
 
 /// Borrow the model and state of an initialized handle.
 ///
 /// # Safety
-/// `sensor` must have been filled by a successful `rgx_init`, and the model bytes and state
-/// buffer it refers to must still be valid and not used elsewhere meanwhile.
-unsafe fn parts<'a>(sensor: *const RgxSensor) -> Result<(&'a [u8], &'a mut [f64]), i32> {
+/// `sensor` must have been filled by a successful `rgx_init` (`rgx_init_f32`), and the model
+/// bytes and state buffer it refers to must still be valid and not used elsewhere meanwhile.
+unsafe fn parts<'a, H: Handle>(sensor: *const H) -> Result<(&'a [u8], &'a mut [H::Float]), i32> {
     // SAFETY: the caller guarantees `sensor` is valid; NULL is checked.
     let s = unsafe { sensor.as_ref() }.ok_or(RGX_E_NULL)?;
-    if s.model.is_null() || s.state.is_null() {
+    let (model, model_len, state, state_words) = s.parts();
+    if model.is_null() || state.is_null() {
         return Err(RGX_E_NULL);
     }
-    // SAFETY: `rgx_init` stored pointer/length pairs the caller promised stay valid.
-    let model = unsafe { core::slice::from_raw_parts(s.model, s.model_len) };
+    // SAFETY: the init function stored pointer/length pairs the caller promised stay valid.
+    let model = unsafe { core::slice::from_raw_parts(model, model_len) };
     // SAFETY: as above; the state buffer is exclusively ours during the call.
-    let state = unsafe { core::slice::from_raw_parts_mut(s.state, s.state_words) };
+    let state = unsafe { core::slice::from_raw_parts_mut(state, state_words) };
     Ok((model, state))
 }
 
@@ -111,9 +202,9 @@ unsafe fn parts<'a>(sensor: *const RgxSensor) -> Result<(&'a [u8], &'a mut [f64]
 ///
 /// # Safety
 /// As for [`parts`].
-unsafe fn with_estimator<R>(
-    sensor: *const RgxSensor,
-    f: impl FnOnce(&mut Estimator<'_, '_, f64>) -> R,
+unsafe fn with_estimator<H: Handle, R>(
+    sensor: *const H,
+    f: impl FnOnce(&mut Estimator<'_, '_, H::Float>) -> R,
 ) -> Result<R, i32> {
     // SAFETY: forwarded to the caller's contract.
     let (model, state) = unsafe { parts(sensor) }?;
@@ -122,16 +213,11 @@ unsafe fn with_estimator<R>(
     Ok(f(&mut estimator))
 }
 
-/// Number of doubles of state the model needs. Validates the model (CRC included).
+/// [`rgx_state_words`] for words of `T`.
 ///
 /// # Safety
-/// `model` must point to `model_len` readable bytes; `words` must be writable.
-#[no_mangle]
-pub unsafe extern "C" fn rgx_state_words(
-    model: *const u8,
-    model_len: usize,
-    words: *mut usize,
-) -> i32 {
+/// As for [`rgx_state_words`].
+unsafe fn state_words_of<T: Real>(model: *const u8, model_len: usize, words: *mut usize) -> i32 {
     if model.is_null() || words.is_null() {
         return RGX_E_NULL;
     }
@@ -140,24 +226,22 @@ pub unsafe extern "C" fn rgx_state_words(
     match ModelView::parse(bytes) {
         Ok(view) => {
             // SAFETY: checked non-NULL; the caller guarantees it is writable.
-            unsafe { ptr::write(words, state_words(&view)) };
+            unsafe { ptr::write(words, state_words_for::<T>(&view)) };
             RGX_OK
         }
         Err(e) => decode_code(e),
     }
 }
 
-/// Validates the model (CRC included), checks the state size and resets the state.
+/// [`rgx_init`] for either handle.
 ///
 /// # Safety
-/// `sensor` must be writable; `model` must point to `model_len` bytes and `state` to
-/// `state_words` doubles, both valid and unchanged for as long as the sensor is used.
-#[no_mangle]
-pub unsafe extern "C" fn rgx_init(
-    sensor: *mut RgxSensor,
+/// As for [`rgx_init`].
+unsafe fn init<H: Handle>(
+    sensor: *mut H,
     model: *const u8,
     model_len: usize,
-    state: *mut f64,
+    state: *mut H::Float,
     state_words: usize,
 ) -> i32 {
     if sensor.is_null() || model.is_null() || state.is_null() {
@@ -169,41 +253,30 @@ pub unsafe extern "C" fn rgx_init(
         Ok(v) => v,
         Err(e) => return decode_code(e),
     };
-    // SAFETY: caller guarantees `state_words` writable doubles at `state`.
+    // SAFETY: caller guarantees `state_words` writable words at `state`.
     let words = unsafe { core::slice::from_raw_parts_mut(state, state_words) };
     if Estimator::new(view, words).is_err() {
         return RGX_E_STATE_TOO_SMALL;
     }
     // SAFETY: checked non-NULL; the caller guarantees it is writable.
-    unsafe {
-        ptr::write(
-            sensor,
-            RgxSensor {
-                model,
-                model_len,
-                state,
-                state_words,
-            },
-        )
-    };
+    unsafe { ptr::write(sensor, H::new(model, model_len, state, state_words)) };
     RGX_OK
 }
 
-/// Processes one sample: `inputs` holds `n_inputs` values in engineering units, in model order.
+/// [`rgx_step`] for either handle.
 ///
 /// # Safety
-/// `sensor` as after `rgx_init`; `inputs` must point to `n_inputs` doubles; `out` writable.
-#[no_mangle]
-pub unsafe extern "C" fn rgx_step(
-    sensor: *mut RgxSensor,
-    inputs: *const f64,
+/// As for [`rgx_step`].
+unsafe fn step<H: Handle>(
+    sensor: *mut H,
+    inputs: *const H::Float,
     n_inputs: usize,
-    out: *mut RgxEstimate,
+    out: *mut H::Out,
 ) -> i32 {
     if inputs.is_null() || out.is_null() {
         return RGX_E_NULL;
     }
-    // SAFETY: the caller guarantees `n_inputs` readable doubles.
+    // SAFETY: the caller guarantees `n_inputs` readable values.
     let x = unsafe { core::slice::from_raw_parts(inputs, n_inputs) };
     // SAFETY: the handle's contract is the caller's (see `rgx_init`).
     let e = match unsafe {
@@ -216,37 +289,24 @@ pub unsafe extern "C" fn rgx_step(
         Err(code) => return code,
     };
     // SAFETY: checked non-NULL; the caller guarantees it is writable.
-    unsafe {
-        ptr::write(
-            out,
-            RgxEstimate {
-                value: e.value,
-                model_value: e.model_value,
-                typicality: e.typicality,
-                status: e.status.0,
-                dominant: e.dominant,
-            },
-        )
-    };
+    unsafe { ptr::write(out, H::out(e)) };
     RGX_OK
 }
 
-/// Copies the regime weights of the last estimate into `weights` (capacity `capacity`); writes
-/// the regime count to `count`.
+/// [`rgx_weights`] for either handle.
 ///
 /// # Safety
-/// `sensor` as after `rgx_init`; `weights` must hold `capacity` doubles; `count` writable.
-#[no_mangle]
-pub unsafe extern "C" fn rgx_weights(
-    sensor: *mut RgxSensor,
-    weights: *mut f64,
+/// As for [`rgx_weights`].
+unsafe fn weights_of<H: Handle>(
+    sensor: *mut H,
+    weights: *mut H::Float,
     capacity: usize,
     count: *mut usize,
 ) -> i32 {
     if weights.is_null() || count.is_null() {
         return RGX_E_NULL;
     }
-    let mut buffer = [0.0f64; regimix_format::limits::MAX_REGIMES];
+    let mut buffer = [H::Float::ZERO; regimix_format::limits::MAX_REGIMES];
     // SAFETY: the handle's contract is the caller's (see `rgx_init`).
     let n = match unsafe {
         with_estimator(sensor, |est| {
@@ -265,22 +325,19 @@ pub unsafe extern "C" fn rgx_weights(
     if capacity < w.len() {
         return RGX_E_BUFFER_TOO_SMALL;
     }
-    // SAFETY: `capacity >= w.len()` doubles are writable at `weights`.
+    // SAFETY: `capacity >= w.len()` values are writable at `weights`.
     let dst = unsafe { core::slice::from_raw_parts_mut(weights, w.len()) };
     dst.copy_from_slice(w);
     RGX_OK
 }
 
-/// Feeds back a lab result (engineering units) for material sampled `age` samples ago.
-/// `outcome` receives 0 if the bias was updated, 1 too old, 2 estimate then not trusted,
-/// 3 value unusable, 4 outlier.
+/// [`rgx_lab_result`] for either handle.
 ///
 /// # Safety
-/// `sensor` as after `rgx_init`; `outcome` writable.
-#[no_mangle]
-pub unsafe extern "C" fn rgx_lab_result(
-    sensor: *mut RgxSensor,
-    value: f64,
+/// As for [`rgx_lab_result`].
+unsafe fn lab_result_of<H: Handle>(
+    sensor: *mut H,
+    value: H::Float,
     age: u16,
     outcome: *mut i32,
 ) -> i32 {
@@ -298,10 +355,287 @@ pub unsafe extern "C" fn rgx_lab_result(
     RGX_OK
 }
 
+/// Number of doubles of state the model needs for `rgx_init`. Validates the model (CRC
+/// included).
+///
+/// # Safety
+/// `model` must point to `model_len` readable bytes; `words` must be writable.
+#[no_mangle]
+pub unsafe extern "C" fn rgx_state_words(
+    model: *const u8,
+    model_len: usize,
+    words: *mut usize,
+) -> i32 {
+    // SAFETY: forwarded to the caller's contract.
+    unsafe { state_words_of::<f64>(model, model_len, words) }
+}
+
+/// Number of floats of state the model needs for `rgx_init_f32` (more than `rgx_state_words`
+/// counts: an `f32` sensor also keeps the model's parameters converted to `f32` there, so that a
+/// single-precision FPU converts none per sample). Validates the model (CRC included).
+///
+/// # Safety
+/// `model` must point to `model_len` readable bytes; `words` must be writable.
+#[no_mangle]
+pub unsafe extern "C" fn rgx_state_words_f32(
+    model: *const u8,
+    model_len: usize,
+    words: *mut usize,
+) -> i32 {
+    // SAFETY: forwarded to the caller's contract.
+    unsafe { state_words_of::<f32>(model, model_len, words) }
+}
+
+/// Validates the model (CRC included), checks the state size and resets the state.
+///
+/// # Safety
+/// `sensor` must be writable; `model` must point to `model_len` bytes and `state` to
+/// `state_words` doubles, both valid and unchanged for as long as the sensor is used.
+#[no_mangle]
+pub unsafe extern "C" fn rgx_init(
+    sensor: *mut RgxSensor,
+    model: *const u8,
+    model_len: usize,
+    state: *mut f64,
+    state_words: usize,
+) -> i32 {
+    // SAFETY: forwarded to the caller's contract.
+    unsafe { init(sensor, model, model_len, state, state_words) }
+}
+
+/// `rgx_init` for an `f32` sensor: `state` holds `state_words` floats (`rgx_state_words_f32`).
+///
+/// # Safety
+/// `sensor` must be writable; `model` must point to `model_len` bytes and `state` to
+/// `state_words` floats, both valid and unchanged for as long as the sensor is used.
+#[no_mangle]
+pub unsafe extern "C" fn rgx_init_f32(
+    sensor: *mut RgxSensorF32,
+    model: *const u8,
+    model_len: usize,
+    state: *mut f32,
+    state_words: usize,
+) -> i32 {
+    // SAFETY: forwarded to the caller's contract.
+    unsafe { init(sensor, model, model_len, state, state_words) }
+}
+
+/// Processes one sample: `inputs` holds `n_inputs` values in engineering units, in model order.
+///
+/// # Safety
+/// `sensor` as after `rgx_init`; `inputs` must point to `n_inputs` doubles; `out` writable.
+#[no_mangle]
+pub unsafe extern "C" fn rgx_step(
+    sensor: *mut RgxSensor,
+    inputs: *const f64,
+    n_inputs: usize,
+    out: *mut RgxEstimate,
+) -> i32 {
+    // SAFETY: forwarded to the caller's contract.
+    unsafe { step(sensor, inputs, n_inputs, out) }
+}
+
+/// `rgx_step` for an `f32` sensor.
+///
+/// # Safety
+/// `sensor` as after `rgx_init_f32`; `inputs` must point to `n_inputs` floats; `out` writable.
+#[no_mangle]
+pub unsafe extern "C" fn rgx_step_f32(
+    sensor: *mut RgxSensorF32,
+    inputs: *const f32,
+    n_inputs: usize,
+    out: *mut RgxEstimateF32,
+) -> i32 {
+    // SAFETY: forwarded to the caller's contract.
+    unsafe { step(sensor, inputs, n_inputs, out) }
+}
+
+/// Copies the regime weights of the last estimate into `weights` (capacity `capacity`); writes
+/// the regime count to `count`.
+///
+/// # Safety
+/// `sensor` as after `rgx_init`; `weights` must hold `capacity` doubles; `count` writable.
+#[no_mangle]
+pub unsafe extern "C" fn rgx_weights(
+    sensor: *mut RgxSensor,
+    weights: *mut f64,
+    capacity: usize,
+    count: *mut usize,
+) -> i32 {
+    // SAFETY: forwarded to the caller's contract.
+    unsafe { weights_of(sensor, weights, capacity, count) }
+}
+
+/// `rgx_weights` for an `f32` sensor.
+///
+/// # Safety
+/// `sensor` as after `rgx_init_f32`; `weights` must hold `capacity` floats; `count` writable.
+#[no_mangle]
+pub unsafe extern "C" fn rgx_weights_f32(
+    sensor: *mut RgxSensorF32,
+    weights: *mut f32,
+    capacity: usize,
+    count: *mut usize,
+) -> i32 {
+    // SAFETY: forwarded to the caller's contract.
+    unsafe { weights_of(sensor, weights, capacity, count) }
+}
+
+/// Feeds back a lab result (engineering units) for material sampled `age` samples ago.
+/// `outcome` receives 0 if the bias was updated, 1 too old, 2 estimate then not trusted,
+/// 3 value unusable, 4 outlier.
+///
+/// # Safety
+/// `sensor` as after `rgx_init`; `outcome` writable.
+#[no_mangle]
+pub unsafe extern "C" fn rgx_lab_result(
+    sensor: *mut RgxSensor,
+    value: f64,
+    age: u16,
+    outcome: *mut i32,
+) -> i32 {
+    // SAFETY: forwarded to the caller's contract.
+    unsafe { lab_result_of(sensor, value, age, outcome) }
+}
+
+/// `rgx_lab_result` for an `f32` sensor.
+///
+/// # Safety
+/// `sensor` as after `rgx_init_f32`; `outcome` writable.
+#[no_mangle]
+pub unsafe extern "C" fn rgx_lab_result_f32(
+    sensor: *mut RgxSensorF32,
+    value: f32,
+    age: u16,
+    outcome: *mut i32,
+) -> i32 {
+    // SAFETY: forwarded to the caller's contract.
+    unsafe { lab_result_of(sensor, value, age, outcome) }
+}
+
 /// A halting panic handler for `no_std` static libraries built with `ffi`. The runtime has no
 /// panicking paths; this only satisfies the linker.
 #[cfg(all(not(test), not(feature = "std"), target_os = "none"))]
 #[panic_handler]
 fn halt(_: &core::panic::PanicInfo<'_>) -> ! {
     loop {}
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use std::vec;
+
+    const MODEL: &[u8] = include_bytes!("../../docs/examples/tiny-model.rgmx");
+
+    /// The error paths of one precision's functions, and a step and a lab result that work.
+    macro_rules! error_paths {
+        ($float:ty, $sensor:ty, $estimate:ty, $words:ident, $init:ident, $step:ident,
+         $weights:ident, $lab:ident) => {{
+            let mut words = 0usize;
+            // SAFETY (all calls below): the buffers are live locals of the sizes passed.
+            unsafe {
+                assert_eq!($words(ptr::null(), MODEL.len(), &mut words), RGX_E_NULL);
+                assert_eq!($words(MODEL.as_ptr(), MODEL.len(), &mut words), RGX_OK);
+                let mut corrupted = MODEL.to_vec();
+                corrupted[40] ^= 1;
+                let mut ignored = 0usize;
+                assert_eq!(
+                    $words(corrupted.as_ptr(), corrupted.len(), &mut ignored),
+                    RGX_E_CRC
+                );
+                assert_eq!(
+                    $words(MODEL.as_ptr(), MODEL.len() - 1, &mut ignored),
+                    RGX_E_LENGTH
+                );
+            }
+            let mut state = vec![0.0 as $float; words];
+            let mut sensor = core::mem::MaybeUninit::<$sensor>::uninit();
+            unsafe {
+                let short = words - 1;
+                assert_eq!(
+                    $init(
+                        sensor.as_mut_ptr(),
+                        MODEL.as_ptr(),
+                        MODEL.len(),
+                        state.as_mut_ptr(),
+                        short
+                    ),
+                    RGX_E_STATE_TOO_SMALL
+                );
+                assert_eq!(
+                    $init(
+                        sensor.as_mut_ptr(),
+                        MODEL.as_ptr(),
+                        MODEL.len(),
+                        state.as_mut_ptr(),
+                        words
+                    ),
+                    RGX_OK
+                );
+            }
+            let sensor = sensor.as_mut_ptr();
+            let mut est = core::mem::MaybeUninit::<$estimate>::uninit();
+            let x = [100.0 as $float, 1.0];
+            unsafe {
+                assert_eq!(
+                    $step(sensor, x.as_ptr(), 2, est.as_mut_ptr()),
+                    RGX_E_INPUT_COUNT
+                );
+                assert_eq!($step(sensor, ptr::null(), 1, est.as_mut_ptr()), RGX_E_NULL);
+                assert_eq!(
+                    $step(ptr::null_mut(), x.as_ptr(), 1, est.as_mut_ptr()),
+                    RGX_E_NULL
+                );
+                assert_eq!($step(sensor, x.as_ptr(), 1, est.as_mut_ptr()), RGX_OK);
+                let est = est.assume_init();
+                assert!(est.value.is_finite(), "{est:?}");
+                let (mut w, mut count) = ([0.0 as $float; 2], 0usize);
+                assert_eq!(
+                    $weights(sensor, w.as_mut_ptr(), 1, &mut count),
+                    RGX_E_BUFFER_TOO_SMALL
+                );
+                assert_eq!(
+                    count, 2,
+                    "the count is written even when the buffer is short"
+                );
+                assert_eq!($weights(sensor, w.as_mut_ptr(), 2, &mut count), RGX_OK);
+                assert!((f64::from(w[0] + w[1]) - 1.0).abs() < 1e-6, "{w:?}");
+                let mut outcome = -1;
+                assert_eq!($lab(sensor, est.value, 0, &mut outcome), RGX_OK);
+                assert_eq!(outcome, 0, "a lab result equal to the estimate is applied");
+                assert_eq!($lab(sensor, est.value, 500, &mut outcome), RGX_OK);
+                assert_eq!(outcome, 1, "too old");
+                assert_eq!($lab(sensor, est.value, 0, ptr::null_mut()), RGX_E_NULL);
+            }
+        }};
+    }
+
+    #[test]
+    fn f64_functions_report_their_errors_and_work() {
+        error_paths!(
+            f64,
+            RgxSensor,
+            RgxEstimate,
+            rgx_state_words,
+            rgx_init,
+            rgx_step,
+            rgx_weights,
+            rgx_lab_result
+        );
+    }
+
+    #[test]
+    fn f32_functions_report_their_errors_and_work() {
+        error_paths!(
+            f32,
+            RgxSensorF32,
+            RgxEstimateF32,
+            rgx_state_words_f32,
+            rgx_init_f32,
+            rgx_step_f32,
+            rgx_weights_f32,
+            rgx_lab_result_f32
+        );
+    }
 }

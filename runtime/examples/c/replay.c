@@ -1,6 +1,9 @@
 /* Replays a CSV through a regimix model from C: the embedded developer's starting point.
  *
- *   replay MODEL.rgmx INPUTS.csv
+ *   replay [--f32] MODEL.rgmx INPUTS.csv
+ *
+ * --f32 runs the single-precision sensor (rgx_*_f32), as a controller with a single-precision
+ * FPU would; numbers are then printed with 9 significant digits, enough to give back each float.
  *
  * INPUTS.csv: a header line, then one sample per line: a timestamp, then the model's inputs in
  * model order. Anything that is not a number (a quality marker, an empty cell) is passed as NaN,
@@ -38,42 +41,83 @@ static unsigned char *read_file(const char *path, size_t *len) {
     return buf;
 }
 
+/* A number with the digits that give back its bits: 17 for a double, 9 for a float. */
+static void print_number(int f32, double v) { printf(f32 ? "%.9g" : "%.17g", v); }
+
+/* One sample through either sensor; the estimate and weights are returned as doubles. */
+static int step(int f32, void *sensor, const double *inputs, size_t n, double out[3],
+                unsigned *status, unsigned *regime, double *weights, size_t *n_weights) {
+    size_t i;
+    int rc;
+    if (f32) {
+        float x[MAX_INPUTS], w[MAX_REGIMES];
+        RgxEstimateF32 est;
+        for (i = 0; i < n; i++) x[i] = (float)inputs[i];
+        rc = rgx_step_f32((RgxSensorF32 *)sensor, x, n, &est);
+        if (rc != RGX_OK) return rc;
+        rc = rgx_weights_f32((RgxSensorF32 *)sensor, w, MAX_REGIMES, n_weights);
+        for (i = 0; i < *n_weights; i++) weights[i] = w[i];
+        out[0] = est.value;
+        out[1] = est.model_value;
+        out[2] = est.typicality;
+        *status = est.status;
+        *regime = est.dominant;
+    } else {
+        RgxEstimate est;
+        rc = rgx_step((RgxSensor *)sensor, inputs, n, &est);
+        if (rc != RGX_OK) return rc;
+        rc = rgx_weights((RgxSensor *)sensor, weights, MAX_REGIMES, n_weights);
+        out[0] = est.value;
+        out[1] = est.model_value;
+        out[2] = est.typicality;
+        *status = est.status;
+        *regime = est.dominant;
+    }
+    return rc;
+}
+
 int main(int argc, char **argv) {
     size_t model_len = 0, words = 0, n_weights = 0, n = 0;
     unsigned char *model;
-    double *state;
+    void *state;
     RgxSensor sensor;
-    RgxEstimate est;
+    RgxSensorF32 sensor_f32;
     char line[8192];
     FILE *csv;
-    int rc;
+    int rc, f32 = argc == 4 && strcmp(argv[1], "--f32") == 0;
 
-    if (argc != 3) {
-        fprintf(stderr, "usage: replay MODEL.rgmx INPUTS.csv\n");
+    if (argc != 3 + f32) {
+        fprintf(stderr, "usage: replay [--f32] MODEL.rgmx INPUTS.csv\n");
         return 2;
     }
-    model = read_file(argv[1], &model_len);
+    model = read_file(argv[1 + f32], &model_len);
     if (!model) {
-        fprintf(stderr, "cannot read %s\n", argv[1]);
+        fprintf(stderr, "cannot read %s\n", argv[1 + f32]);
         return 2;
     }
-    rc = rgx_state_words(model, model_len, &words);
+    rc = f32 ? rgx_state_words_f32(model, model_len, &words)
+             : rgx_state_words(model, model_len, &words);
     if (rc != RGX_OK) {
         fprintf(stderr, "invalid model: code %d\n", rc);
         return 2;
     }
-    state = malloc(words * sizeof(double)); /* or a static buffer sized at build time */
-    if (!state || rgx_init(&sensor, model, model_len, state, words) != RGX_OK) {
+    /* or a static buffer sized at build time */
+    state = malloc(words * (f32 ? sizeof(float) : sizeof(double)));
+    rc = !state ? -1
+         : f32  ? rgx_init_f32(&sensor_f32, model, model_len, (float *)state, words)
+                : rgx_init(&sensor, model, model_len, (double *)state, words);
+    if (rc != RGX_OK) {
         fprintf(stderr, "cannot set up the sensor\n");
         return 2;
     }
-    csv = fopen(argv[2], "r");
+    csv = fopen(argv[2 + f32], "r");
     if (!csv || !fgets(line, sizeof line, csv)) {
-        fprintf(stderr, "cannot read %s\n", argv[2]);
+        fprintf(stderr, "cannot read %s\n", argv[2 + f32]);
         return 2;
     }
     while (fgets(line, sizeof line, csv)) {
-        double inputs[MAX_INPUTS], weights[MAX_REGIMES];
+        double inputs[MAX_INPUTS], weights[MAX_REGIMES], est[3];
+        unsigned status, regime;
         char *stamp = line, *field, *comma;
         size_t i;
         line[strcspn(line, "\r\n")] = '\0';
@@ -91,15 +135,21 @@ int main(int argc, char **argv) {
             inputs[n++] = (end != field && *end == '\0') ? v : NAN;
             field = next ? next + 1 : NULL;
         }
-        rc = rgx_step(&sensor, inputs, n, &est);
+        rc = step(f32, f32 ? (void *)&sensor_f32 : (void *)&sensor, inputs, n, est, &status,
+                  &regime, weights, &n_weights);
         if (rc != RGX_OK) {
             fprintf(stderr, "step failed: code %d\n", rc);
             return 1;
         }
-        rgx_weights(&sensor, weights, MAX_REGIMES, &n_weights);
-        printf("%s,%.17g,%u,%.17g,%u", stamp, est.value, (unsigned)est.status, est.typicality,
-               (unsigned)est.dominant + 1);
-        for (i = 0; i < n_weights; i++) printf(",%.17g", weights[i]);
+        printf("%s,", stamp);
+        print_number(f32, est[0]);
+        printf(",%u,", status);
+        print_number(f32, est[2]);
+        printf(",%u", regime + 1);
+        for (i = 0; i < n_weights; i++) {
+            printf(",");
+            print_number(f32, weights[i]);
+        }
         printf("\n");
     }
     fclose(csv);
