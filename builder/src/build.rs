@@ -19,7 +19,7 @@ use crate::identify::global::{fit_baseline, fit_global};
 use crate::identify::refine::{refine, simulation_mse};
 use crate::identify::scheduling::{rank_inputs, scheduling_inputs, Ranked};
 use crate::identify::stepwise::{
-    self, predict, select, Selection, SelectionError, Step, StructureParams,
+    self, predict, select, select_from, Selection, SelectionError, Step, StructureParams,
 };
 use crate::identify::wls::{Fit, FitError};
 use crate::identify::Term;
@@ -260,17 +260,17 @@ pub fn build(config: &Config, progress: &dyn Fn(&str)) -> Result<Built, BuildErr
     let max = regimix_format::limits::MAX_ANTECEDENT;
     // One linear model says which inputs matter (the regimes start on those when there are more
     // inputs than they take) and is the reference the inputs are ranked against.
-    let linear = if m.variables_given {
-        None
-    } else {
-        progress("fitting one linear model");
+    // Also the structure the regimes' search starts from, besides nothing (see `select_from`).
+    progress("fitting one linear model");
+    let linear = {
         let fitted = linear_model(&structure, regressors, target_model, train_end);
-        if m.variables.len() > max {
+        if !m.variables_given && m.variables.len() > max {
             Some(fitted?)
         } else {
             fitted.ok()
         }
     };
+
     let first = match &linear {
         Some(linear) if m.variables.len() > max => {
             let used = used_inputs(&linear.selection.terms);
@@ -297,6 +297,9 @@ pub fn build(config: &Config, progress: &dyn Fn(&str)) -> Result<Built, BuildErr
         regressors,
         target_model,
         train_end,
+        linear: linear
+            .as_ref()
+            .map(|l| (l.selection.terms.as_slice(), l.selection.validation_rmse)),
         progress,
     };
     let (scheduled, ranking) = choose_schedule(&fitting, &first, linear.as_ref(), &mut notes)?;
@@ -576,6 +579,9 @@ struct Fitting<'a> {
     regressors: Regressors<'a>,
     target_model: &'a [f64],
     train_end: usize,
+    /// The structure one linear model selected and its validation RMSE: the regimes' search
+    /// also starts from it when it would validate worse (`stepwise::select_from`).
+    linear: Option<(&'a [Term], f64)>,
     progress: &'a dyn Fn(&str),
 }
 
@@ -740,6 +746,7 @@ fn fit_regimes(
         target_model,
         train_end,
         progress,
+        ..
     } = *fitting;
     let m = &config.modelling;
     let inputs = regressors.inputs;
@@ -792,31 +799,47 @@ fn fit_regimes(
         }
     }
     progress("selecting lags and dead times");
-    let selection = select(structure, &weights, regressors, &selection_target)?;
-    let terms = selection.terms.clone();
-    let train_rows = design::usable_rows(&terms, regressors, &selection_target, 0..train_end);
-    if train_rows.len() < 10 * c * (terms.len() + 1) {
-        return Err(BuildError::TooLittleData(format!(
-            "only {} usable training rows for {c} regimes × {} parameters; use fewer regimes or inputs, or more data",
-            train_rows.len(),
-            terms.len() + 1
-        )));
-    }
-    // Every regime needs enough data of its own for its parameters.
-    let parameters = terms.len() + 1;
-    let needed = SAMPLES_PER_PARAMETER * parameters;
-    for (i, w) in weights.iter().enumerate() {
-        let samples: f64 = train_rows.iter().map(|&k| w[k].powf(m.fuzziness)).sum();
-        if samples < needed as f64 {
-            return Err(BuildError::RegimeTooThin {
-                regime: i + 1,
-                count: c,
-                samples,
-                parameters,
-                needed,
-            });
+    // The rows the structure fits on, if they are enough for its parameters overall and in every
+    // regime.
+    let enough = |terms: &[Term]| -> Result<Vec<usize>, BuildError> {
+        let train_rows = design::usable_rows(terms, regressors, &selection_target, 0..train_end);
+        let parameters = terms.len() + 1;
+        if train_rows.len() < 10 * c * parameters {
+            return Err(BuildError::TooLittleData(format!(
+                "only {} usable training rows for {c} regimes × {parameters} parameters; use fewer regimes or inputs, or more data",
+                train_rows.len(),
+            )));
         }
+        let needed = SAMPLES_PER_PARAMETER * parameters;
+        for (i, w) in weights.iter().enumerate() {
+            let samples: f64 = train_rows.iter().map(|&k| w[k].powf(m.fuzziness)).sum();
+            if samples < needed as f64 {
+                return Err(BuildError::RegimeTooThin {
+                    regime: i + 1,
+                    count: c,
+                    samples,
+                    parameters,
+                    needed,
+                });
+            }
+        }
+        Ok(train_rows)
+    };
+    let mut selection = select_from(
+        structure,
+        &weights,
+        regressors,
+        &selection_target,
+        fitting.linear,
+    )?;
+    let mut checked = enough(&selection.terms);
+    if checked.is_err() && fitting.linear.is_some() {
+        // The linear model's structure may hold more terms than the regimes have data for: the
+        // searches from nothing and from the past output alone, as before.
+        selection = select(structure, &weights, regressors, &selection_target)?;
+        checked = enough(&selection.terms);
     }
+    let train_rows = checked?;
     Ok(Scheduled {
         vars: vars.to_vec(),
         scaling: scaling.clone(),

@@ -740,8 +740,11 @@ fn rmse_ratio(dir: &std::path::Path, name: &str) -> (f64, String) {
 }
 
 /// A plant whose target follows X1 nonlinearly, with three inputs that carry nothing (noise and a
-/// slow drift): by default the regimes are found again on the inputs the structure uses (X1), the
-/// build says so, and the test error is lower than with the regimes on all four inputs.
+/// slow drift): by default the regimes are found again on X1, the build says so, and the test
+/// error is lower than with the regimes on all four inputs (0.17× the linear model's against
+/// 1.06×, when written). On all four inputs the regimes validate worse than one linear model, so
+/// their structure is also searched from that model's, which takes a term of X4: the regimes go
+/// to X1 and X4 (the inputs that structure uses), then to X1 alone (the input ranked first).
 #[test]
 fn regimes_move_to_the_inputs_the_model_uses() {
     let dir = tempfile::tempdir().expect("tempdir");
@@ -772,8 +775,7 @@ fn regimes_move_to_the_inputs_the_model_uses() {
     let (auto, summary) = rmse_ratio(dir.path(), "auto.yaml");
     let (all, _) = rmse_ratio(dir.path(), "all.yaml");
     assert!(
-        summary
-            .contains("the regimes are scheduled on the inputs the model uses (X1), not on all 4"),
+        summary.contains("the regimes are scheduled on the inputs the model uses (X1"),
         "{summary}"
     );
     let inspect = regimix(dir.path(), &["inspect", "auto.yaml.out/model.rgmx"]);

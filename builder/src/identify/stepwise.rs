@@ -351,6 +351,21 @@ pub fn select(
     regressors: Regressors<'_>,
     target: &[f64],
 ) -> Result<Selection, SelectionError> {
+    select_from(params, weights, regressors, target, None)
+}
+
+/// [`select`], also searching from `linear`'s terms (the structure one linear model selected)
+/// when the searches from nothing and from the past output validate worse than its RMSE:
+/// regimes should at least match one linear model. A forward search adds one term at a time,
+/// and with many regimes their offsets alone can validate as well as any one term though a few
+/// terms together do far better: the search then stops at once, with a model of offsets.
+pub fn select_from(
+    params: &StructureParams,
+    weights: &[Vec<f64>],
+    regressors: Regressors<'_>,
+    target: &[f64],
+    linear: Option<(&[Term], f64)>,
+) -> Result<Selection, SelectionError> {
     let all = candidates(&params.max_lag, params.max_output_lag, params.output_step);
     let Blocks { train, validation } = blocks(params, regressors, target, weights.len())?;
     let p = all.len();
@@ -383,6 +398,13 @@ pub fn select(
             lag: params.output_step.max(1),
         }];
         if let Ok(other) = search(&problem, params, guard, &start) {
+            if other.current < found.current {
+                found = other;
+            }
+        }
+    }
+    if let Some((start, _)) = linear.filter(|(t, rmse)| !t.is_empty() && found.current > *rmse) {
+        if let Ok(other) = search(&problem, params, guard, start) {
             if other.current < found.current {
                 found = other;
             }
