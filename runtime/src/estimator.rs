@@ -433,13 +433,26 @@ impl<'m: 's, 's, T: Real> Estimator<'m, 's, T> {
     }
 
     /// Processes one sample of inputs (engineering units, in model input order).
+    // On x86-64 only a choice between two copies, in line in the caller: one call, not two.
+    #[cfg_attr(target_arch = "x86_64", inline)]
     pub fn step(&mut self, inputs: &[T]) -> Estimate<T> {
         #[cfg(target_arch = "x86_64")]
-        if self.hot.wide {
-            // SAFETY: `wide` is set only where the processor has AVX ([`crate::wide::avx`]).
-            #[allow(unsafe_code)]
-            return unsafe { self.step_avx(inputs) };
+        {
+            if self.hot.wide {
+                // SAFETY: `wide` is set only where the processor has AVX ([`crate::wide::avx`]).
+                #[allow(unsafe_code)]
+                return unsafe { self.step_avx(inputs) };
+            }
+            self.step_narrow(inputs)
         }
+        #[cfg(not(target_arch = "x86_64"))]
+        self.step_with::<false>(inputs)
+    }
+
+    /// [`Self::step`] without AVX (x86-64).
+    #[cfg(target_arch = "x86_64")]
+    #[inline(never)]
+    fn step_narrow(&mut self, inputs: &[T]) -> Estimate<T> {
         self.step_with::<false>(inputs)
     }
 
