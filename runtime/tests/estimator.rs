@@ -267,4 +267,31 @@ proptest! {
             prop_assert!(e.bias().is_finite());
         }
     }
+
+    /// The same in f32, whose parameters are a converted copy and whose inverse transform and
+    /// clipping run in single precision.
+    #[test]
+    fn any_f32_inputs_give_a_finite_estimate_or_a_flag(
+        xs in proptest::collection::vec(prop_oneof![
+            any::<f32>(),
+            Just(f32::NAN), Just(f32::INFINITY), Just(f32::NEG_INFINITY),
+            Just(f32::MIN_POSITIVE / 2.0), Just(3e38f32), Just(-0.0f32),
+            0.0f32..200.0,
+        ], 1..40),
+        lab in proptest::collection::vec((any::<f32>(), any::<u16>()), 0..5),
+    ) {
+        let b = bytes();
+        let model = ModelView::parse(&b).expect("valid");
+        let mut state = vec![0.0f32; state_words_for::<f32>(&model)];
+        let mut e = Estimator::new(model, &mut state).expect("state");
+        for x in xs {
+            let est = e.step(&[x]);
+            prop_assert!(est.value.is_finite() || est.status.has(Status::FALLBACK));
+            prop_assert!(est.typicality.is_finite());
+        }
+        for (v, age) in lab {
+            let _ = e.lab_result(v, age);
+            prop_assert!(e.bias().is_finite());
+        }
+    }
 }
