@@ -129,55 +129,38 @@ trait Handle {
     fn out(e: Estimate<Self::Float>) -> Self::Out;
 }
 
-impl Handle for RgxSensor {
-    type Float = f64;
-    type Out = RgxEstimate;
-    fn new(model: *const u8, model_len: usize, state: *mut f64, state_words: usize) -> Self {
-        RgxSensor {
-            model,
-            model_len,
-            state,
-            state_words,
+/// `Handle` for a handle type over state words of `$float`, returning `$out`.
+macro_rules! handle {
+    ($sensor:ident, $float:ty, $out:ident) => {
+        impl Handle for $sensor {
+            type Float = $float;
+            type Out = $out;
+            fn new(model: *const u8, model_len: usize, state: *mut $float, words: usize) -> Self {
+                $sensor {
+                    model,
+                    model_len,
+                    state,
+                    state_words: words,
+                }
+            }
+            fn parts(&self) -> (*const u8, usize, *mut $float, usize) {
+                (self.model, self.model_len, self.state, self.state_words)
+            }
+            fn out(e: Estimate<$float>) -> $out {
+                $out {
+                    value: e.value,
+                    model_value: e.model_value,
+                    typicality: e.typicality,
+                    status: e.status.0,
+                    dominant: e.dominant,
+                }
+            }
         }
-    }
-    fn parts(&self) -> (*const u8, usize, *mut f64, usize) {
-        (self.model, self.model_len, self.state, self.state_words)
-    }
-    fn out(e: Estimate<f64>) -> RgxEstimate {
-        RgxEstimate {
-            value: e.value,
-            model_value: e.model_value,
-            typicality: e.typicality,
-            status: e.status.0,
-            dominant: e.dominant,
-        }
-    }
+    };
 }
 
-impl Handle for RgxSensorF32 {
-    type Float = f32;
-    type Out = RgxEstimateF32;
-    fn new(model: *const u8, model_len: usize, state: *mut f32, state_words: usize) -> Self {
-        RgxSensorF32 {
-            model,
-            model_len,
-            state,
-            state_words,
-        }
-    }
-    fn parts(&self) -> (*const u8, usize, *mut f32, usize) {
-        (self.model, self.model_len, self.state, self.state_words)
-    }
-    fn out(e: Estimate<f32>) -> RgxEstimateF32 {
-        RgxEstimateF32 {
-            value: e.value,
-            model_value: e.model_value,
-            typicality: e.typicality,
-            status: e.status.0,
-            dominant: e.dominant,
-        }
-    }
-}
+handle!(RgxSensor, f64, RgxEstimate);
+handle!(RgxSensorF32, f32, RgxEstimateF32);
 
 /// Borrow the model and state of an initialized handle.
 ///

@@ -8,7 +8,7 @@ mod tiny;
 
 use proptest::prelude::*;
 use regimix_runtime::{
-    state_words, state_words_for, Estimator, InitError, LabOutcome, ModelView, Status,
+    state_words, state_words_for, Estimator, InitError, LabOutcome, ModelView, Real, Status,
 };
 
 fn bytes() -> Vec<u8> {
@@ -222,6 +222,25 @@ fn too_small_state_is_an_error() {
     assert!(Estimator::new(model, &mut s32).is_ok());
 }
 
+/// Steps the tiny model through `xs`, then feeds back `lab`: every estimate finite or flagged as
+/// a fallback, every typicality and the bias finite.
+fn finite_or_flagged<T: Real>(xs: &[T], lab: &[(T, u16)]) -> Result<(), TestCaseError> {
+    let b = bytes();
+    let model = ModelView::parse(&b).expect("valid");
+    let mut state = vec![T::ZERO; state_words_for::<T>(&model)];
+    let mut e = Estimator::new(model, &mut state).expect("state");
+    for &x in xs {
+        let est = e.step(&[x]);
+        prop_assert!(est.value.is_finite() || est.status.has(Status::FALLBACK));
+        prop_assert!(est.typicality.is_finite());
+    }
+    for &(v, age) in lab {
+        let _ = e.lab_result(v, age);
+        prop_assert!(e.bias().is_finite());
+    }
+    Ok(())
+}
+
 proptest! {
     #[test]
     fn decoding_arbitrary_bytes_never_panics(data in proptest::collection::vec(any::<u8>(), 0..600)) {
@@ -253,19 +272,7 @@ proptest! {
         ], 1..40),
         lab in proptest::collection::vec((any::<f64>(), any::<u16>()), 0..5),
     ) {
-        let b = bytes();
-        let model = ModelView::parse(&b).expect("valid");
-        let mut state = vec![0.0f64; state_words(&model)];
-        let mut e = Estimator::new(model, &mut state).expect("state");
-        for x in xs {
-            let est = e.step(&[x]);
-            prop_assert!(est.value.is_finite() || est.status.has(Status::FALLBACK));
-            prop_assert!(est.typicality.is_finite());
-        }
-        for (v, age) in lab {
-            let _ = e.lab_result(v, age);
-            prop_assert!(e.bias().is_finite());
-        }
+        finite_or_flagged::<f64>(&xs, &lab)?;
     }
 
     /// The same in f32, whose parameters are a converted copy and whose inverse transform and
@@ -280,18 +287,6 @@ proptest! {
         ], 1..40),
         lab in proptest::collection::vec((any::<f32>(), any::<u16>()), 0..5),
     ) {
-        let b = bytes();
-        let model = ModelView::parse(&b).expect("valid");
-        let mut state = vec![0.0f32; state_words_for::<f32>(&model)];
-        let mut e = Estimator::new(model, &mut state).expect("state");
-        for x in xs {
-            let est = e.step(&[x]);
-            prop_assert!(est.value.is_finite() || est.status.has(Status::FALLBACK));
-            prop_assert!(est.typicality.is_finite());
-        }
-        for (v, age) in lab {
-            let _ = e.lab_result(v, age);
-            prop_assert!(e.bias().is_finite());
-        }
+        finite_or_flagged::<f32>(&xs, &lab)?;
     }
 }
