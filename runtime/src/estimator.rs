@@ -245,22 +245,31 @@ impl<'h, T: Real> Hot<'h, T> {
     }
 }
 
+/// `$run` with the constant `$dim` set to the antecedent dimension `$p` (1 … MAX_ANTECEDENT;
+/// anything larger as MAX_ANTECEDENT, which the view rules out): one copy per dimension.
+#[rustfmt::skip]
+macro_rules! with_dimension {
+    ($p:expr, $dim:ident => $run:expr) => {
+        match $p {
+            1 => { const $dim: usize = 1; $run }
+            2 => { const $dim: usize = 2; $run }
+            3 => { const $dim: usize = 3; $run }
+            4 => { const $dim: usize = 4; $run }
+            5 => { const $dim: usize = 5; $run }
+            6 => { const $dim: usize = 6; $run }
+            7 => { const $dim: usize = 7; $run }
+            8 => { const $dim: usize = 8; $run }
+            9 => { const $dim: usize = 9; $run }
+            10 => { const $dim: usize = 10; $run }
+            11 => { const $dim: usize = 11; $run }
+            _ => { const $dim: usize = MAX_ANTECEDENT; $run }
+        }
+    };
+}
+
 /// The distance kernel for `p` antecedent variables.
 fn kernel<T: Real>(p: usize) -> DistanceKernel<T> {
-    match p {
-        1 => distances_with::<T, 1, LANES>,
-        2 => distances_with::<T, 2, LANES>,
-        3 => distances_with::<T, 3, LANES>,
-        4 => distances_with::<T, 4, LANES>,
-        5 => distances_with::<T, 5, LANES>,
-        6 => distances_with::<T, 6, LANES>,
-        7 => distances_with::<T, 7, LANES>,
-        8 => distances_with::<T, 8, LANES>,
-        9 => distances_with::<T, 9, LANES>,
-        10 => distances_with::<T, 10, LANES>,
-        11 => distances_with::<T, 11, LANES>,
-        _ => distances_with::<T, 12, LANES>,
-    }
+    with_dimension!(p, P => distances_with::<T, P, LANES> as DistanceKernel<T>)
 }
 
 /// [`kernel`]'s choice made in line, so that the kernel compiles into its caller (the copy of
@@ -272,20 +281,7 @@ fn distances_in_line<T: Real>(
     x: &[T; MAX_ANTECEDENT],
     d2: &mut [T; MAX_REGIMES],
 ) {
-    match p {
-        1 => distances_with::<T, 1, LANES>(pairs, x, d2),
-        2 => distances_with::<T, 2, LANES>(pairs, x, d2),
-        3 => distances_with::<T, 3, LANES>(pairs, x, d2),
-        4 => distances_with::<T, 4, LANES>(pairs, x, d2),
-        5 => distances_with::<T, 5, LANES>(pairs, x, d2),
-        6 => distances_with::<T, 6, LANES>(pairs, x, d2),
-        7 => distances_with::<T, 7, LANES>(pairs, x, d2),
-        8 => distances_with::<T, 8, LANES>(pairs, x, d2),
-        9 => distances_with::<T, 9, LANES>(pairs, x, d2),
-        10 => distances_with::<T, 10, LANES>(pairs, x, d2),
-        11 => distances_with::<T, 11, LANES>(pairs, x, d2),
-        _ => distances_with::<T, 12, LANES>(pairs, x, d2),
-    }
+    with_dimension!(p, P => distances_with::<T, P, LANES>(pairs, x, d2))
 }
 
 #[cfg(target_arch = "x86_64")]
