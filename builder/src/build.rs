@@ -833,7 +833,7 @@ fn fit_regimes(
         fitting.linear,
     )?;
     let mut checked = enough(&selection.terms);
-    if checked.is_err() && fitting.linear.is_some() {
+    if checked.is_err() && selection.from_linear {
         // The linear model's structure may hold more terms than the regimes have data for: the
         // searches from nothing and from the past output alone, as before.
         selection = select(structure, &weights, regressors, &selection_target)?;

@@ -82,6 +82,8 @@ pub struct Selection {
     pub training_rows: usize,
     /// First validation row index.
     pub validation_start: usize,
+    /// The search that won started from the linear model's structure ([`select_from`]).
+    pub from_linear: bool,
 }
 
 /// Predictions of a blended model on `rows` (sorted) — free-run for output terms: a past output
@@ -403,10 +405,12 @@ pub fn select_from(
             }
         }
     }
+    let mut from_linear = false;
     if let Some((start, _)) = linear.filter(|(t, rmse)| !t.is_empty() && found.current > *rmse) {
         if let Ok(other) = search(&problem, params, guard, start) {
             if other.current < found.current {
                 found = other;
+                from_linear = true;
             }
         }
     }
@@ -439,6 +443,7 @@ pub fn select_from(
         path,
         training_rows: train.len(),
         validation_start: validation.start,
+        from_linear,
     })
 }
 
